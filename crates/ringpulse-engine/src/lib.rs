@@ -1,0 +1,57 @@
+//! The ringpulse engine: from a validated case to currents, pressures and an energy account.
+//!
+//! Data flow: [`mesh`] splits coil turns and workpiece wall into filament rings;
+//! [`network`] assembles their inductance matrix, force factors and the loop formulation of
+//! bank, turns in series and shorted workpiece rings; [`transient`] integrates flux linkages
+//! and the capacitor voltage; [`run`] ties it together, samples the result on a uniform grid
+//! and computes the summary ([`results`]). Everything runs in memory: this crate writes no
+//! files and prints nothing.
+
+pub mod mesh;
+pub mod network;
+pub mod reference;
+pub mod results;
+pub mod run;
+pub mod transient;
+
+pub use results::*;
+pub use run::{estimate_frequency, prepare, run, run_prepared, FrequencyEstimate, Prepared};
+
+/// Errors of the engine. Each names what the engineer can change.
+#[derive(Debug, thiserror::Error, Clone, PartialEq)]
+pub enum EngineError {
+    /// The discretization would need more filaments than allowed.
+    #[error(
+        "refused: the discretization needs {count} filaments, more than the limit of {limit} \
+         (discretization.max_filaments); use a coarser split or raise discretization.cell_over_skin_depth"
+    )]
+    TooManyFilaments {
+        /// Filaments the split would need.
+        count: usize,
+        /// The limit in force.
+        limit: usize,
+    },
+    /// The inductance matrix is not positive definite.
+    #[error(
+        "the inductance matrix is not positive definite (checked by its Cholesky factorisation); \
+         offending conductor split: {conductor}; use near-square cells"
+    )]
+    IndefiniteInductance {
+        /// Which conductor split is at fault.
+        conductor: String,
+    },
+    /// The stepper failed.
+    #[error("transient solver failed: {message}")]
+    Solver {
+        /// What the stepper reported, with the simulation time.
+        message: String,
+    },
+    /// The case describes something the engine cannot simulate.
+    #[error("{field}: {message}")]
+    Unsupported {
+        /// Case-file path of the field.
+        field: String,
+        /// What is wrong.
+        message: String,
+    },
+}

@@ -1,0 +1,159 @@
+//! Reference problems with known answers, shared by the tests and the benchmarks.
+//!
+//! The series RLC discharge is the textbook underdamped solution (any circuits text; for
+//! pulsed power, H. Knoepfel, "Pulsed High Magnetic Fields", 1970). The case builders make
+//! small, fully specified cases in code so that tests do not depend on files.
+
+use ringpulse_case::{
+    Bank, Case, Coil, Discretization, Material, Resolution, SolverSettings, Split, Tube,
+};
+
+/// An underdamped series RLC discharge: C charged to V0, switch closed at t = 0.
+#[derive(Debug, Clone, Copy)]
+pub struct SeriesRlc {
+    /// Capacitance, in farads.
+    pub c: f64,
+    /// Initial voltage, in volts.
+    pub v0: f64,
+    /// Total loop inductance, in henries.
+    pub l: f64,
+    /// Total loop resistance, in ohms.
+    pub r: f64,
+}
+
+impl SeriesRlc {
+    /// Damping rate α = R / (2L), in 1/s.
+    pub fn alpha(&self) -> f64 {
+        self.r / (2.0 * self.l)
+    }
+
+    /// Damped angular frequency ω = √(1/(LC) − α²), in rad/s.
+    pub fn omega(&self) -> f64 {
+        (1.0 / (self.l * self.c) - self.alpha().powi(2)).sqrt()
+    }
+
+    /// Current i(t) = V0/(ωL) e^{−αt} sin ωt, in amperes.
+    pub fn current(&self, t: f64) -> f64 {
+        self.v0 / (self.omega() * self.l) * (-self.alpha() * t).exp() * (self.omega() * t).sin()
+    }
+
+    /// Capacitor voltage v(t) = V0 e^{−αt} (cos ωt + (α/ω) sin ωt), in volts.
+    pub fn voltage(&self, t: f64) -> f64 {
+        let (a, w) = (self.alpha(), self.omega());
+        self.v0 * (-a * t).exp() * ((w * t).cos() + a / w * (w * t).sin())
+    }
+
+    /// Time of the current peak, atan(ω/α)/ω, in seconds.
+    pub fn peak_time(&self) -> f64 {
+        (self.omega() / self.alpha()).atan() / self.omega()
+    }
+
+    /// First current zero π/ω, in seconds.
+    pub fn first_zero(&self) -> f64 {
+        std::f64::consts::PI / self.omega()
+    }
+
+    /// Voltage reversal ratio e^{−πα/ω} (fraction of V0).
+    pub fn reversal(&self) -> f64 {
+        (-std::f64::consts::PI * self.alpha() / self.omega()).exp()
+    }
+
+    /// Initial rate of rise V0 / L, in A/s.
+    pub fn initial_di_dt(&self) -> f64 {
+        self.v0 / self.l
+    }
+
+    /// ∫₀^∞ i² dt = C V0² / (2R), in A² s.
+    pub fn action_total(&self) -> f64 {
+        self.c * self.v0 * self.v0 / (2.0 * self.r)
+    }
+}
+
+/// A built-in material by name; panics are avoided by falling back to a copper-like default
+/// only in this test-support module when the name is unknown.
+pub fn material(name: &str) -> Material {
+    ringpulse_case::materials::builtin(name).unwrap_or_else(|| Material {
+        name: "test copper".into(),
+        resistivity: 1.72e-8,
+        temperature_coefficient: 0.0039,
+        reference_temperature: 293.15,
+        density: 8940.0,
+        specific_heat: 385.0,
+        melting_point: 1356.0,
+        youngs_modulus: 115e9,
+        yield_strength: 69e6,
+        source: "test support".into(),
+    })
+}
+
+/// A case with a coil and optional tube, default numerics and the given bank.
+#[allow(clippy::too_many_arguments)]
+pub fn simple_case(
+    capacitance: f64,
+    voltage: f64,
+    external_inductance: f64,
+    external_resistance: f64,
+    coil: Coil,
+    workpiece: Option<Tube>,
+) -> Case {
+    Case {
+        description: "reference problem".into(),
+        bank: Bank {
+            capacitance,
+            voltage,
+            inductance: external_inductance,
+            resistance: external_resistance,
+            feeder_inductance: 0.0,
+            feeder_resistance: 0.0,
+            crowbar: None,
+        },
+        coil,
+        workpiece,
+        discretization: Discretization {
+            mode: Resolution::SkinDepth { cell_over_skin_depth: 1.0 },
+            max_filaments: 4000,
+            max_aspect: 1.5,
+        },
+        solver: SolverSettings { rel_tol: 1e-7, abs_tol: 1e-9, end_time: None, output_step: None },
+        initial_temperature: 293.15,
+    }
+}
+
+/// A coil of `turns` turns with a fixed split.
+pub fn coil(
+    turns: usize,
+    mean_radius: f64,
+    radial: f64,
+    axial: f64,
+    pitch: f64,
+    split: Option<Split>,
+) -> Coil {
+    Coil {
+        turns,
+        mean_radius,
+        radial_thickness: radial,
+        axial_width: axial,
+        pitch,
+        z_center: 0.0,
+        material: material("copper"),
+        split,
+    }
+}
+
+/// A tube of the given material name.
+pub fn tube(
+    inner_radius: f64,
+    wall: f64,
+    length: f64,
+    material_name: &str,
+    split: Option<Split>,
+) -> Tube {
+    Tube {
+        inner_radius,
+        wall,
+        length,
+        z_center: 0.0,
+        material: material(material_name),
+        split,
+    }
+}

@@ -1,0 +1,212 @@
+//! What a run returns: uniform-grid traces, per-ring traces, the summary and solver statistics.
+//!
+//! Everything is SI. The summary derives `Serialize` with unit-suffixed keys so that the output
+//! crate can write it as JSON without renaming; the traces are plain vectors that the output
+//! crate turns into CSV and plots.
+
+use serde::Serialize;
+
+/// The complete result of one transient run.
+#[derive(Debug, Clone)]
+pub struct RunResult {
+    /// Traces on the uniform output grid.
+    pub traces: Traces,
+    /// Per workpiece ring traces (empty when the case has no workpiece).
+    pub rings: RingTraces,
+    /// Scalar results.
+    pub summary: Summary,
+    /// Solver statistics.
+    pub stats: SolverStats,
+    /// The discretization that was used.
+    pub mesh: MeshInfo,
+    /// Warnings for the engineer (plain sentences, no trailing period).
+    pub warnings: Vec<String>,
+}
+
+/// Whole-circuit traces sampled on a uniform time grid.
+#[derive(Debug, Clone, Default)]
+pub struct Traces {
+    /// Sample times, in seconds, starting at 0.
+    pub time: Vec<f64>,
+    /// Coil (bank) current, in amperes; positive in the direction the discharge starts.
+    pub coil_current: Vec<f64>,
+    /// Capacitor voltage, in volts.
+    pub capacitor_voltage: Vec<f64>,
+    /// Net azimuthal current in the workpiece (sum over its filaments), in amperes.
+    pub workpiece_current: Vec<f64>,
+    /// Net radial force on the workpiece, in newtons; positive outward.
+    pub radial_force: Vec<f64>,
+    /// Net axial force on the workpiece, in newtons; positive towards +z.
+    pub axial_force: Vec<f64>,
+    /// Largest magnetic pressure over the workpiece rings at that instant, in pascals
+    /// (positive: pushing the wall away from the coil).
+    pub peak_pressure: Vec<f64>,
+}
+
+/// Per-ring traces of the workpiece, sampled every `stride`-th output time.
+#[derive(Debug, Clone, Default)]
+pub struct RingTraces {
+    /// Mean radius of each axial ring of the workpiece, in metres.
+    pub radius: Vec<f64>,
+    /// Axial centre of each ring, in metres.
+    pub z: Vec<f64>,
+    /// Axial length of each ring, in metres.
+    pub length: Vec<f64>,
+    /// Cross-section area of each ring (all its radial layers), in square metres.
+    pub area: Vec<f64>,
+    /// Sample times of the rows below, in seconds.
+    pub time: Vec<f64>,
+    /// Net current of each ring (all radial layers), in amperes: `current[sample][ring]`.
+    pub current: Vec<Vec<f64>>,
+    /// Magnetic pressure on each ring, in pascals: net radial force over the wall surface that
+    /// faces the coil, positive pushing the wall away from the coil: `pressure[sample][ring]`.
+    pub pressure: Vec<Vec<f64>>,
+    /// Net axial force on each ring, in newtons, positive towards +z: `axial_force[sample][ring]`.
+    pub axial_force: Vec<Vec<f64>>,
+}
+
+/// Scalar results of a run. JSON keys carry their unit.
+#[derive(Debug, Clone, Serialize, Default)]
+pub struct Summary {
+    /// Largest absolute coil current, in amperes.
+    #[serde(rename = "peak_coil_current_A")]
+    pub peak_coil_current: f64,
+    /// Time of the largest absolute coil current, in seconds.
+    #[serde(rename = "time_of_peak_current_s")]
+    pub time_of_peak_current: f64,
+    /// First zero crossing of the coil current after its first peak, in seconds.
+    #[serde(rename = "first_current_zero_s")]
+    pub first_current_zero: Option<f64>,
+    /// Ringing frequency from the first two current zeros (or 1 / (2 x first zero)), in hertz.
+    #[serde(rename = "ringing_frequency_Hz")]
+    pub ringing_frequency: Option<f64>,
+    /// Ringing frequency estimated before the run (used for the skin-depth split), in hertz.
+    #[serde(rename = "estimated_frequency_Hz")]
+    pub estimated_frequency: f64,
+    /// Largest absolute rate of rise of the coil current, in amperes per second.
+    #[serde(rename = "peak_di_dt_A_per_s")]
+    pub peak_di_dt: f64,
+    /// Charge transferred through the switch, integral of |i| dt, in coulombs.
+    #[serde(rename = "charge_C")]
+    pub charge: f64,
+    /// Action integral of the coil current, integral of i^2 dt, in A^2 s.
+    #[serde(rename = "action_integral_A2s")]
+    pub action_integral: f64,
+    /// Largest negative capacitor voltage as a percentage of the charging voltage.
+    #[serde(rename = "voltage_reversal_percent")]
+    pub voltage_reversal_percent: f64,
+    /// Time the crowbar closed, in seconds, if the case has one and it closed.
+    #[serde(rename = "crowbar_time_s")]
+    pub crowbar_time: Option<f64>,
+    /// Largest absolute net workpiece current, in amperes.
+    #[serde(rename = "peak_workpiece_current_A")]
+    pub peak_workpiece_current: f64,
+    /// Largest magnetic pressure on any workpiece ring, with where and when.
+    pub peak_pressure: Option<PeakPressure>,
+    /// Largest absolute net radial force on the workpiece, in newtons.
+    #[serde(rename = "peak_radial_force_N")]
+    pub peak_radial_force: f64,
+    /// Largest absolute net axial force on the workpiece, in newtons.
+    #[serde(rename = "peak_axial_force_N")]
+    pub peak_axial_force: f64,
+    /// Energy account at the end of the run.
+    pub energy: EnergyAccount,
+    /// End time of the transient, in seconds.
+    #[serde(rename = "end_time_s")]
+    pub end_time: f64,
+}
+
+/// Where and when the magnetic pressure peaked.
+#[derive(Debug, Clone, Serialize, Default)]
+pub struct PeakPressure {
+    /// Peak pressure, in pascals.
+    #[serde(rename = "value_Pa")]
+    pub value: f64,
+    /// Index of the workpiece ring (0 at the lowest z).
+    pub ring: usize,
+    /// Axial position of that ring's centre, in metres.
+    #[serde(rename = "z_m")]
+    pub z: f64,
+    /// Time of the peak, in seconds.
+    #[serde(rename = "time_s")]
+    pub time: f64,
+}
+
+/// Where the bank's initial energy went, in joules.
+///
+/// `initial = bank_and_feeder + coil + workpiece + crowbar + magnetic + capacitor + residual`.
+#[derive(Debug, Clone, Serialize, Default)]
+pub struct EnergyAccount {
+    /// 0.5 C V0^2, in joules.
+    #[serde(rename = "initial_J")]
+    pub initial: f64,
+    /// Dissipated in the bank, switch and feeder resistance, in joules.
+    #[serde(rename = "bank_and_feeder_J")]
+    pub bank_and_feeder: f64,
+    /// Dissipated in the coil conductor, in joules.
+    #[serde(rename = "coil_J")]
+    pub coil: f64,
+    /// Dissipated in the workpiece, in joules.
+    #[serde(rename = "workpiece_J")]
+    pub workpiece: f64,
+    /// Dissipated in the crowbar path, in joules.
+    #[serde(rename = "crowbar_J")]
+    pub crowbar: f64,
+    /// Still stored in the magnetic field at the end, in joules.
+    #[serde(rename = "magnetic_J")]
+    pub magnetic: f64,
+    /// Still stored in the capacitor at the end, in joules.
+    #[serde(rename = "capacitor_J")]
+    pub capacitor: f64,
+    /// initial minus all of the above, as a fraction of initial.
+    pub relative_residual: f64,
+}
+
+/// Statistics of the adaptive stepper, summed over all segments (a crowbar splits the run).
+#[derive(Debug, Clone, Serialize, Default)]
+pub struct SolverStats {
+    /// Accepted steps.
+    pub steps: u64,
+    /// Rejected steps.
+    pub rejected_steps: u64,
+    /// Right-hand-side evaluations.
+    pub rhs_evaluations: u64,
+    /// Smallest accepted step, in seconds.
+    #[serde(rename = "min_dt_s")]
+    pub min_dt: f64,
+    /// Largest accepted step, in seconds.
+    #[serde(rename = "max_dt_s")]
+    pub max_dt: f64,
+    /// Number of integration segments (1, or 2 after a crowbar event).
+    pub segments: u32,
+    /// Wall time of matrix assembly and factorisation, in seconds.
+    #[serde(rename = "assembly_time_s")]
+    pub assembly_time: f64,
+    /// Wall time of the time stepping and sampling, in seconds.
+    #[serde(rename = "stepping_time_s")]
+    pub stepping_time: f64,
+}
+
+/// How the conductors were split.
+#[derive(Debug, Clone, Serialize, Default)]
+pub struct MeshInfo {
+    /// Filaments in the coil (all turns).
+    pub coil_filaments: usize,
+    /// Filaments per coil turn, radial x axial.
+    pub coil_split: [usize; 2],
+    /// Filaments in the workpiece.
+    pub workpiece_filaments: usize,
+    /// Workpiece split, radial layers x axial rings.
+    pub workpiece_split: [usize; 2],
+    /// Skin depth in the coil conductor at the estimated frequency, in metres.
+    #[serde(rename = "coil_skin_depth_m")]
+    pub coil_skin_depth: f64,
+    /// Skin depth in the workpiece at the estimated frequency, in metres.
+    #[serde(rename = "workpiece_skin_depth_m")]
+    pub workpiece_skin_depth: Option<f64>,
+    /// Unknowns of the network (loop currents).
+    pub loops: usize,
+    /// Self-inductance of the coil alone (filaments in series/parallel, no workpiece), in henries.
+    #[serde(rename = "coil_inductance_H")]
+    pub coil_inductance: f64,
+}

@@ -1,0 +1,495 @@
+//! One run of a case: frequency estimate, split, network, transient, sampling and summary.
+//!
+//! The ringing frequency is estimated first on a coarse mesh (one filament per turn, about 40
+//! workpiece rings) with the workpiece as a perfect conductor (flux excluded, the limit that
+//! forming aims at); that frequency sets the skin depths and so the default split. The
+//! transient then runs on the chosen mesh and is sampled on a uniform grid; peaks and zeros of
+//! the coil current are refined on the stepper's continuous output, not read off the grid.
+
+use std::time::Instant;
+
+use nalgebra::{DMatrix, DVector};
+use ringpulse_case::{Case, Split};
+
+use crate::mesh::{build_mesh, coarse_tube_split, plan_splits, Arrangement, Part, SplitPlan};
+use crate::network::{invert_spd, Network};
+use crate::results::*;
+use crate::transient::{
+    bisect_zero, golden_max, integrate_segment, slot, Circuit, Rhs, Scales, Segment,
+    StepperSettings,
+};
+use crate::EngineError;
+
+/// The ringing frequency estimated before the run.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FrequencyEstimate {
+    /// Estimated ringing frequency 1 / (2π √(L C)), in hertz.
+    pub frequency: f64,
+    /// Total bank-loop inductance with the workpiece as a perfect conductor, in henries.
+    pub loop_inductance: f64,
+}
+
+/// Estimates the ringing frequency on a coarse mesh (see the module doc).
+pub fn estimate_frequency(case: &Case) -> Result<FrequencyEstimate, EngineError> {
+    let aspect = case.discretization.max_aspect;
+    let plan = SplitPlan {
+        coil: Split { radial: 1, axial: 1 },
+        workpiece: case.workpiece.as_ref().map(|t| coarse_tube_split(t, 40, aspect)),
+    };
+    let mesh = build_mesh(case, &plan);
+    let external = case.bank.inductance + case.bank.feeder_inductance;
+    let net = Network::new(mesh, external)?;
+    let l = &net.l_loops;
+    let n = l.nrows();
+    let mut l_eff = l[(0, 0)];
+    if n > 1 {
+        // Eliminate the workpiece loops with zero flux change: L_eff = L00 - b' D^-1 b.
+        let b = l.view((1, 0), (n - 1, 1)).into_owned();
+        let d = l.view((1, 1), (n - 1, n - 1)).into_owned();
+        if let Some(dinv) = invert_spd(&d) {
+            let reduced = l_eff - (b.transpose() * dinv * &b)[(0, 0)];
+            if reduced.is_finite() && reduced > 0.0 {
+                l_eff = reduced;
+            }
+        }
+    }
+    let frequency = 1.0 / (2.0 * std::f64::consts::PI * (l_eff * case.bank.capacitance).sqrt());
+    Ok(FrequencyEstimate { frequency, loop_inductance: l_eff })
+}
+
+/// A case ready to integrate: its network and the estimate that chose the split.
+#[derive(Debug, Clone)]
+pub struct Prepared {
+    /// The assembled network.
+    pub network: Network,
+    /// The frequency estimate.
+    pub estimate: FrequencyEstimate,
+    /// Wall time of estimate, split and assembly, in seconds.
+    pub assembly_time: f64,
+}
+
+/// Estimates the frequency, chooses the split, checks the filament limit and assembles.
+pub fn prepare(case: &Case) -> Result<Prepared, EngineError> {
+    let started = Instant::now();
+    let estimate = estimate_frequency(case)?;
+    let plan = plan_splits(case, estimate.frequency);
+    let count = plan.filaments(case.coil.turns);
+    if count > case.discretization.max_filaments {
+        return Err(EngineError::TooManyFilaments {
+            count,
+            limit: case.discretization.max_filaments,
+        });
+    }
+    let mesh = build_mesh(case, &plan);
+    let network = Network::new(mesh, case.bank.inductance + case.bank.feeder_inductance)?;
+    Ok(Prepared { network, estimate, assembly_time: started.elapsed().as_secs_f64() })
+}
+
+/// What is observed of the circuit at one instant.
+struct Observation {
+    coil_current: f64,
+    voltage: f64,
+    di_dt: f64,
+    workpiece_current: f64,
+    radial_force: f64,
+    axial_force: f64,
+    ring_current: Vec<f64>,
+    ring_pressure: Vec<f64>,
+    ring_axial_force: Vec<f64>,
+}
+
+/// Geometry of the workpiece rings needed to turn forces into pressures.
+struct RingGeometry {
+    /// Ring index of each workpiece filament.
+    ring_of: Vec<usize>,
+    /// Area of the wall surface facing the coil, per ring, in square metres.
+    face_area: Vec<f64>,
+    /// +1 when outward force pushes the wall away from the coil, else -1.
+    sign: f64,
+    radius: Vec<f64>,
+    z: Vec<f64>,
+    length: Vec<f64>,
+    area: Vec<f64>,
+}
+
+fn ring_geometry(case: &Case, net: &Network) -> RingGeometry {
+    let mesh = &net.mesh;
+    let n_rings = mesh.workpiece_split.map_or(0, |s| s.axial);
+    let mut g = RingGeometry {
+        ring_of: Vec::new(),
+        face_area: vec![0.0; n_rings],
+        sign: 1.0,
+        radius: vec![0.0; n_rings],
+        z: vec![0.0; n_rings],
+        length: vec![0.0; n_rings],
+        area: vec![0.0; n_rings],
+    };
+    let Some(tube) = case.workpiece.as_ref() else { return g };
+    let (face_radius, sign) = match mesh.arrangement {
+        Some(Arrangement::CoilOutside) => (tube.inner_radius + tube.wall, -1.0),
+        Some(Arrangement::CoilInside) => (tube.inner_radius, 1.0),
+        _ => (tube.inner_radius + tube.wall / 2.0, 1.0),
+    };
+    g.sign = sign;
+    for f in &mesh.filaments[mesh.workpiece_start()..] {
+        if let Part::Workpiece { ring, .. } = f.part {
+            g.ring_of.push(ring);
+            g.face_area[ring] = 2.0 * std::f64::consts::PI * face_radius * f.dz;
+            g.radius[ring] = tube.inner_radius + tube.wall / 2.0;
+            g.z[ring] = f.z;
+            g.length[ring] = f.dz;
+            g.area[ring] += f.area();
+        }
+    }
+    g
+}
+
+fn observe(
+    net: &Network,
+    rhs: &Rhs<'_>,
+    rings: &RingGeometry,
+    scales: &Scales,
+    y: &DVector<f64>,
+) -> Observation {
+    let nl = net.n_loops();
+    let x = rhs.loop_currents(y);
+    let mut i_f = DVector::zeros(net.mesh.filaments.len());
+    net.filament_currents(&x, &mut i_f);
+    let dy = rhs.derivative(y);
+    let dpsi = dy.rows(0, nl) * scales.psi;
+    let di_dt = net.l_loops_inv.row(0).transpose().dot(&dpsi);
+    let w0 = net.mesh.workpiece_start();
+    let iw = i_f.rows(w0, i_f.len() - w0);
+    let gr = &net.grad_r * &i_f;
+    let gz = &net.grad_z * &i_f;
+    let n_rings = rings.face_area.len();
+    let mut obs = Observation {
+        coil_current: x[0],
+        voltage: y[nl + slot::V] * scales.volt,
+        di_dt,
+        workpiece_current: iw.sum(),
+        radial_force: 0.0,
+        axial_force: 0.0,
+        ring_current: vec![0.0; n_rings],
+        ring_pressure: vec![0.0; n_rings],
+        ring_axial_force: vec![0.0; n_rings],
+    };
+    for (k, &ring) in rings.ring_of.iter().enumerate() {
+        let fr = iw[k] * gr[k];
+        let fz = iw[k] * gz[k];
+        obs.radial_force += fr;
+        obs.axial_force += fz;
+        obs.ring_current[ring] += iw[k];
+        obs.ring_pressure[ring] += rings.sign * fr / rings.face_area[ring];
+        obs.ring_axial_force[ring] += fz;
+    }
+    obs
+}
+
+/// Runs a case end to end and returns its traces, summary and statistics.
+pub fn run(case: &Case) -> Result<RunResult, EngineError> {
+    let prepared = prepare(case)?;
+    run_prepared(case, prepared)
+}
+
+/// Runs a prepared case (see [`prepare`]).
+pub fn run_prepared(case: &Case, prepared: Prepared) -> Result<RunResult, EngineError> {
+    let Prepared { network: net, estimate, assembly_time } = prepared;
+    let started = Instant::now();
+    let bank = &case.bank;
+    let period = 1.0 / estimate.frequency;
+    let t_end = case.solver.end_time.unwrap_or(3.0 * period);
+    let dt_out = case.solver.output_step.unwrap_or(t_end / 1000.0);
+    let n_samples = ((t_end / dt_out).round() as usize).max(1) + 1;
+    let t_ref = period / (2.0 * std::f64::consts::PI);
+    let i_ref = bank.voltage * (bank.capacitance / estimate.loop_inductance).sqrt();
+    let e0 = 0.5 * bank.capacitance * bank.voltage * bank.voltage;
+    let scales = Scales {
+        psi: bank.voltage * t_ref,
+        volt: bank.voltage,
+        energy: e0,
+        charge: bank.capacitance * bank.voltage,
+        action: i_ref * i_ref * t_ref,
+    };
+    let circuit = Circuit {
+        capacitance: bank.capacitance,
+        external_resistance: bank.resistance + bank.feeder_resistance,
+        crowbar_resistance: bank.crowbar.as_ref().map_or(0.0, |c| c.resistance),
+    };
+    let settings = StepperSettings {
+        rel_tol: case.solver.rel_tol,
+        abs_tol: case.solver.abs_tol,
+        max_step: (period / 40.0).min(t_end),
+        max_steps: 5_000_000,
+    };
+    let nl = net.n_loops();
+    let mut y0 = DVector::zeros(nl + slot::COUNT);
+    y0[nl + slot::V] = 1.0;
+
+    // Segment 1: switch closed at t = 0.
+    let mut first =
+        integrate_segment(&net, circuit, scales, false, bank.crowbar.is_some(), 0.0, t_end, y0, &settings)?;
+    let mut second: Option<(Segment, Option<Network>)> = None;
+    let mut crowbar_time = None;
+    if let (Some((ta, tb)), Some(cb)) = (first.crossing, bank.crowbar.as_ref()) {
+        let t_cb = bisect_zero(ta, tb, |t| first.state(t)[nl + slot::V]);
+        first.t_end = t_cb;
+        crowbar_time = Some(t_cb);
+        let mut y_cb = first.state(t_cb);
+        y_cb[nl + slot::V] = 0.0;
+        let mut net2 = None;
+        if cb.inductance > 0.0 {
+            // Inserting the crowbar inductance keeps every flux linkage; the magnetic energy
+            // that the larger loop inductance cannot hold is booked as a crowbar loss.
+            let psi = y_cb.rows(0, nl) * scales.psi;
+            let before = 0.5 * psi.dot(&(&net.l_loops_inv * &psi));
+            let mut n2 = net.clone();
+            n2.add_bank_loop_inductance(cb.inductance)?;
+            let after = 0.5 * psi.dot(&(&n2.l_loops_inv * &psi));
+            y_cb[nl + slot::E_CROWBAR] += (before - after) / scales.energy;
+            net2 = Some(n2);
+        }
+        if t_cb < t_end {
+            let seg_net = net2.as_ref().unwrap_or(&net);
+            let seg = integrate_segment(seg_net, circuit, scales, true, false, t_cb, t_end, y_cb, &settings)?;
+            second = Some((seg, net2));
+        }
+    }
+
+    let segment_at = |t: f64| -> (&Segment, &Network) {
+        match &second {
+            Some((seg, n2)) if t > seg.t_start => (seg, n2.as_ref().unwrap_or(&net)),
+            _ => (&first, &net),
+        }
+    };
+    let rhs_first = Rhs::new(&net, circuit, scales, false, false, 0.0, 1.0);
+    let rhs_second = second.as_ref().map(|(_, n2)| {
+        Rhs::new(n2.as_ref().unwrap_or(&net), circuit, scales, true, false, 0.0, 0.0)
+    });
+    let rhs_at = |t: f64| -> &Rhs<'_> {
+        match (&second, &rhs_second) {
+            (Some((seg, _)), Some(r)) if t > seg.t_start => r,
+            _ => &rhs_first,
+        }
+    };
+    let coil_current_at = |t: f64| -> f64 {
+        let (seg, n) = segment_at(t);
+        let y = seg.state(t);
+        let psi = y.rows(0, nl) * scales.psi;
+        n.l_loops_inv.row(0).transpose().dot(&psi)
+    };
+
+    // Sampling on the uniform grid.
+    let rings = ring_geometry(case, &net);
+    let n_rings = rings.face_area.len();
+    let mut traces = Traces::default();
+    let mut ring_rows: Vec<(f64, Vec<f64>, Vec<f64>, Vec<f64>)> = Vec::with_capacity(n_samples);
+    let mut di_dt_max: f64 = 0.0;
+    let mut peak_pressure: Option<PeakPressure> = None;
+    for k in 0..n_samples {
+        let t = (k as f64 * dt_out).min(t_end);
+        let (seg, n) = segment_at(t);
+        let y = seg.state(t);
+        let obs = observe(n, rhs_at(t), &rings, &scales, &y);
+        traces.time.push(t);
+        traces.coil_current.push(obs.coil_current);
+        traces.capacitor_voltage.push(obs.voltage);
+        traces.workpiece_current.push(obs.workpiece_current);
+        traces.radial_force.push(obs.radial_force);
+        traces.axial_force.push(obs.axial_force);
+        let mut p_max = f64::NEG_INFINITY;
+        for (ring, &p) in obs.ring_pressure.iter().enumerate() {
+            if p > p_max {
+                p_max = p;
+            }
+            if n_rings > 0 && peak_pressure.as_ref().is_none_or(|pk| p > pk.value) {
+                peak_pressure = Some(PeakPressure { value: p, ring, z: rings.z[ring], time: t });
+            }
+        }
+        traces.peak_pressure.push(if n_rings > 0 { p_max } else { 0.0 });
+        di_dt_max = di_dt_max.max(obs.di_dt.abs());
+        ring_rows.push((t, obs.ring_current, obs.ring_pressure, obs.ring_axial_force));
+    }
+
+    // Per-ring rows: every stride-th sample, plus the sample of peak pressure.
+    let stride = n_samples.div_ceil(400).max(1);
+    let peak_sample = peak_pressure.as_ref().map(|p| (p.time / dt_out).round() as usize);
+    let mut ring_traces = RingTraces {
+        radius: rings.radius.clone(),
+        z: rings.z.clone(),
+        length: rings.length.clone(),
+        area: rings.area.clone(),
+        ..RingTraces::default()
+    };
+    if n_rings > 0 {
+        for (k, (t, cur, p, fz)) in ring_rows.into_iter().enumerate() {
+            if k % stride == 0 || Some(k) == peak_sample || k + 1 == n_samples {
+                ring_traces.time.push(t);
+                ring_traces.current.push(cur);
+                ring_traces.pressure.push(p);
+                ring_traces.axial_force.push(fz);
+            }
+        }
+    }
+
+    // Peak current and zeros, refined on the continuous output.
+    let i = &traces.coil_current;
+    let tt = &traces.time;
+    let k_peak = argmax_abs(i);
+    let sign = if i[k_peak] >= 0.0 { 1.0 } else { -1.0 };
+    let lo = tt[k_peak.saturating_sub(1)];
+    let hi = tt[(k_peak + 1).min(n_samples - 1)];
+    let (t_peak, i_peak) = golden_max(lo, hi, |t| sign * coil_current_at(t));
+    let zero_after = |from: usize| -> Option<(usize, f64)> {
+        let s0 = if i[from] >= 0.0 { 1.0 } else { -1.0 };
+        (from + 1..n_samples).find(|&k| s0 * i[k] <= 0.0).map(|k| {
+            (k, bisect_zero(tt[k - 1], tt[k], |t| s0 * coil_current_at(t)))
+        })
+    };
+    let first_zero = zero_after(k_peak);
+    let second_zero = first_zero.and_then(|(k, _)| zero_after(k));
+    let ringing_frequency = match (first_zero, second_zero) {
+        (Some((_, z1)), Some((_, z2))) if z2 > z1 => Some(0.5 / (z2 - z1)),
+        (Some((_, z1)), _) if z1 > 0.0 => Some(0.5 / z1),
+        _ => None,
+    };
+    let v = &traces.capacitor_voltage;
+    let k_vmin = (0..n_samples).fold(0, |b, k| if v[k] < v[b] { k } else { b });
+    let mut v_min = v[k_vmin];
+    if v_min < 0.0 {
+        let lo = tt[k_vmin.saturating_sub(1)];
+        let hi = tt[(k_vmin + 1).min(n_samples - 1)];
+        let (_, neg) = golden_max(lo, hi, |t| {
+            let (seg, _) = segment_at(t);
+            -seg.state(t)[nl + slot::V] * scales.volt
+        });
+        v_min = v_min.min(-neg);
+    }
+
+    // Energy account at the end.
+    let (last_seg, last_net) = segment_at(t_end);
+    let y_end = last_seg.state(t_end);
+    let psi_end = y_end.rows(0, nl) * scales.psi;
+    let x_end = &last_net.l_loops_inv * &psi_end;
+    let v_end = y_end[nl + slot::V] * scales.volt;
+    let mut energy = EnergyAccount {
+        initial: e0,
+        bank_and_feeder: y_end[nl + slot::E_BANK] * scales.energy,
+        coil: y_end[nl + slot::E_COIL] * scales.energy,
+        workpiece: y_end[nl + slot::E_WORK] * scales.energy,
+        crowbar: y_end[nl + slot::E_CROWBAR] * scales.energy,
+        magnetic: 0.5 * psi_end.dot(&x_end),
+        capacitor: 0.5 * bank.capacitance * v_end * v_end,
+        relative_residual: 0.0,
+    };
+    let accounted = energy.bank_and_feeder
+        + energy.coil
+        + energy.workpiece
+        + energy.crowbar
+        + energy.magnetic
+        + energy.capacitor;
+    energy.relative_residual = (e0 - accounted) / e0;
+
+    let summary = Summary {
+        peak_coil_current: i_peak.max(i[k_peak].abs()),
+        time_of_peak_current: t_peak,
+        first_current_zero: first_zero.map(|z| z.1),
+        ringing_frequency,
+        estimated_frequency: estimate.frequency,
+        peak_di_dt: di_dt_max,
+        charge: y_end[nl + slot::CHARGE] * scales.charge,
+        action_integral: y_end[nl + slot::ACTION] * scales.action,
+        voltage_reversal_percent: (-v_min).max(0.0) / bank.voltage * 100.0,
+        crowbar_time,
+        peak_workpiece_current: max_abs(&traces.workpiece_current),
+        peak_pressure,
+        peak_radial_force: max_abs(&traces.radial_force),
+        peak_axial_force: max_abs(&traces.axial_force),
+        energy,
+        end_time: t_end,
+    };
+
+    let mut stats = SolverStats {
+        min_dt: f64::INFINITY,
+        assembly_time,
+        ..SolverStats::default()
+    };
+    for seg in std::iter::once(&first).chain(second.as_ref().map(|(s, _)| s)) {
+        stats.steps += seg.counts.0;
+        stats.rejected_steps += seg.counts.1;
+        stats.rhs_evaluations += seg.counts.2;
+        stats.min_dt = stats.min_dt.min(seg.dt_range.0);
+        stats.max_dt = stats.max_dt.max(seg.dt_range.1);
+        stats.segments += 1;
+    }
+    if !stats.min_dt.is_finite() {
+        stats.min_dt = 0.0;
+    }
+    stats.stepping_time = started.elapsed().as_secs_f64();
+
+    let mesh = &net.mesh;
+    let coil_delta = ringpulse_physics::em::skin_depth(case.coil.material.resistivity, estimate.frequency);
+    let wp_delta = case
+        .workpiece
+        .as_ref()
+        .map(|t| ringpulse_physics::em::skin_depth(t.material.resistivity, estimate.frequency));
+    let mesh_info = MeshInfo {
+        coil_filaments: mesh.coil_filaments(),
+        coil_split: [mesh.coil_split.radial, mesh.coil_split.axial],
+        workpiece_filaments: mesh.workpiece_filaments(),
+        workpiece_split: mesh.workpiece_split.map_or([0, 0], |s| [s.radial, s.axial]),
+        coil_skin_depth: coil_delta,
+        workpiece_skin_depth: wp_delta,
+        loops: nl,
+        coil_inductance: net.coil_inductance,
+    };
+    let warnings = collect_warnings(case, &summary, &traces, wp_delta);
+    Ok(RunResult { traces, rings: ring_traces, summary, stats, mesh: mesh_info, warnings })
+}
+
+fn collect_warnings(case: &Case, s: &Summary, traces: &Traces, wp_delta: Option<f64>) -> Vec<String> {
+    let mut out = Vec::new();
+    if let (Some(tube), Some(delta)) = (case.workpiece.as_ref(), wp_delta) {
+        if delta > tube.wall {
+            out.push(format!(
+                "the skin depth in the workpiece ({:.3} mm at {:.2} kHz) exceeds its wall ({:.3} mm): \
+                 much of the field soaks through and the net pressure is low; a higher ringing \
+                 frequency (less capacitance or inductance) helps",
+                delta * 1e3,
+                s.estimated_frequency / 1e3,
+                tube.wall * 1e3
+            ));
+        }
+    }
+    if let Some(last) = traces.coil_current.last() {
+        if s.peak_coil_current > 0.0 && last.abs() > 0.1 * s.peak_coil_current {
+            out.push(format!(
+                "the coil current is still {:.0} % of its peak at the end time ({:.1} us); \
+                 solver.end_time may be too short to see the whole discharge",
+                last.abs() / s.peak_coil_current * 100.0,
+                s.end_time * 1e6
+            ));
+        }
+    }
+    if s.energy.relative_residual.abs() > 1e-3 {
+        out.push(format!(
+            "the energy account does not close: residual {:.2e} of the stored energy; tighten \
+             solver.rel_tol",
+            s.energy.relative_residual
+        ));
+    }
+    out
+}
+
+fn argmax_abs(v: &[f64]) -> usize {
+    (0..v.len()).fold(0, |b, k| if v[k].abs() > v[b].abs() { k } else { b })
+}
+
+fn max_abs(v: &[f64]) -> f64 {
+    v.iter().fold(0.0, |m: f64, x| m.max(x.abs()))
+}
+
+/// The filament inductance matrix of a case's default mesh (for checks and reports), in henries.
+pub fn inductance_matrix(case: &Case) -> Result<DMatrix<f64>, EngineError> {
+    Ok(prepare(case)?.network.l_filaments)
+}

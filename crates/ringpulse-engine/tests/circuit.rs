@@ -1,0 +1,60 @@
+//! Circuit-level checks of the transient against closed-form solutions.
+//!
+//! Source of every expected value: the textbook underdamped series RLC discharge (any circuits
+//! text; H. Knoepfel, "Pulsed High Magnetic Fields", North-Holland 1970, for the pulsed-power
+//! form), implemented in `ringpulse_engine::reference::SeriesRlc`, and the crowbarred L-R decay.
+
+use ringpulse_case::Split;
+use ringpulse_engine::reference::{coil, simple_case, SeriesRlc};
+use ringpulse_engine::{prepare, run_prepared};
+
+fn rel(a: f64, b: f64) -> f64 {
+    (a - b).abs() / b.abs()
+}
+
+/// One turn, one filament, no workpiece: a pure series RLC circuit whose L and R are the
+/// external values plus the ring's own (from the same kernel the engine uses).
+fn rlc_case() -> ringpulse_case::Case {
+    let mut case = simple_case(
+        100e-6,
+        10e3,
+        0.8e-6,
+        8e-3,
+        coil(1, 0.03, 4e-3, 4e-3, 4e-3, Some(Split { radial: 1, axial: 1 })),
+        None,
+    );
+    case.solver.rel_tol = 1e-10;
+    case.solver.abs_tol = 1e-12;
+    case
+}
+
+#[test]
+fn series_rlc_matches_analytic_solution() {
+    let case = rlc_case();
+    let prepared = prepare(&case).unwrap();
+    let net = &prepared.network;
+    let rlc = SeriesRlc {
+        c: case.bank.capacitance,
+        v0: case.bank.voltage,
+        l: net.l_loops[(0, 0)],
+        r: case.bank.resistance + net.r_filaments[0],
+    };
+    let result = run_prepared(&case, prepared.clone()).unwrap();
+    let s = &result.summary;
+    let i_peak = rlc.current(rlc.peak_time());
+    assert!(rel(s.peak_coil_current, i_peak) < 1e-5, "peak {} vs {}", s.peak_coil_current, i_peak);
+    assert!(rel(s.time_of_peak_current, rlc.peak_time()) < 1e-4, "t_peak {} vs {}", s.time_of_peak_current, rlc.peak_time());
+    let z = s.first_current_zero.unwrap();
+    assert!(rel(z, rlc.first_zero()) < 1e-5, "zero {} vs {}", z, rlc.first_zero());
+    let rev = s.voltage_reversal_percent / 100.0;
+    assert!(rel(rev, rlc.reversal()) < 1e-5, "reversal {} vs {}", rev, rlc.reversal());
+    assert!(rel(s.peak_di_dt, rlc.initial_di_dt()) < 1e-5);
+    for (k, &t) in result.traces.time.iter().enumerate().step_by(37) {
+        let exact = rlc.current(t);
+        assert!((result.traces.coil_current[k] - exact).abs() < 1e-6 * i_peak, "i at t = {t:e} s");
+        let v = rlc.voltage(t);
+        assert!((result.traces.capacitor_voltage[k] - v).abs() < 1e-6 * case.bank.voltage, "v at t = {t:e} s");
+    }
+    assert!(s.energy.relative_residual.abs() < 1e-6, "residual {}", s.energy.relative_residual);
+    eprintln!("{:?}\n{:?}", result.stats, s);
+}

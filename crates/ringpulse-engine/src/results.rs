@@ -21,6 +21,21 @@ pub struct RunResult {
     pub mesh: MeshInfo,
     /// Warnings for the engineer (plain sentences, no trailing period).
     pub warnings: Vec<String>,
+    /// Magnetic field at requested points (empty unless asked for), on the uniform time grid.
+    pub probes: Vec<ProbeTrace>,
+}
+
+/// The magnetic field of all filament currents at one point, over time.
+#[derive(Debug, Clone, Default)]
+pub struct ProbeTrace {
+    /// Radius of the point, in metres (0 is on the axis).
+    pub r: f64,
+    /// Axial position of the point, in metres.
+    pub z: f64,
+    /// Radial flux density at each output time, in tesla.
+    pub b_r: Vec<f64>,
+    /// Axial flux density at each output time, in tesla.
+    pub b_z: Vec<f64>,
 }
 
 /// Whole-circuit traces sampled on a uniform time grid.

@@ -194,6 +194,15 @@ pub fn run(case: &Case) -> Result<RunResult, EngineError> {
 
 /// Runs a prepared case (see [`prepare`]).
 pub fn run_prepared(case: &Case, prepared: Prepared) -> Result<RunResult, EngineError> {
+    run_with_probes(case, prepared, &[])
+}
+
+/// Runs a prepared case and records the magnetic field at `probes`, given as (r, z) in metres.
+pub fn run_with_probes(
+    case: &Case,
+    prepared: Prepared,
+    probes: &[(f64, f64)],
+) -> Result<RunResult, EngineError> {
     let Prepared { network: net, estimate, assembly_time } = prepared;
     let started = Instant::now();
     let bank = &case.bank;
@@ -284,6 +293,24 @@ pub fn run_prepared(case: &Case, prepared: Prepared) -> Result<RunResult, Engine
     let n_rings = rings.face_area.len();
     let mut traces = Traces::default();
     let mut ring_rows: Vec<(f64, Vec<f64>, Vec<f64>, Vec<f64>)> = Vec::with_capacity(n_samples);
+    // Field per unit filament current at each probe (B_r row, B_z row), from the loop field.
+    let probe_gains: Vec<(DVector<f64>, DVector<f64>)> = probes
+        .iter()
+        .map(|&(r, z)| {
+            let fil = &net.mesh.filaments;
+            let br = DVector::from_iterator(
+                fil.len(),
+                fil.iter().map(|f| ringpulse_physics::filament::loop_field(f.r, 1.0, r, z - f.z).0),
+            );
+            let bz = DVector::from_iterator(
+                fil.len(),
+                fil.iter().map(|f| ringpulse_physics::filament::loop_field(f.r, 1.0, r, z - f.z).1),
+            );
+            (br, bz)
+        })
+        .collect();
+    let mut probe_traces: Vec<ProbeTrace> =
+        probes.iter().map(|&(r, z)| ProbeTrace { r, z, ..ProbeTrace::default() }).collect();
     let mut di_dt_max: f64 = 0.0;
     let mut peak_pressure: Option<PeakPressure> = None;
     for k in 0..n_samples {
@@ -291,6 +318,15 @@ pub fn run_prepared(case: &Case, prepared: Prepared) -> Result<RunResult, Engine
         let (seg, n) = segment_at(t);
         let y = seg.state(t);
         let obs = observe(n, rhs_at(t), &rings, &scales, &y);
+        if !probes.is_empty() {
+            let x = rhs_at(t).loop_currents(&y);
+            let mut i_f = DVector::zeros(n.mesh.filaments.len());
+            n.filament_currents(&x, &mut i_f);
+            for (trace, (gr, gz)) in probe_traces.iter_mut().zip(&probe_gains) {
+                trace.b_r.push(gr.dot(&i_f));
+                trace.b_z.push(gz.dot(&i_f));
+            }
+        }
         traces.time.push(t);
         traces.coil_current.push(obs.coil_current);
         traces.capacitor_voltage.push(obs.voltage);
@@ -444,7 +480,15 @@ pub fn run_prepared(case: &Case, prepared: Prepared) -> Result<RunResult, Engine
         coil_inductance: net.coil_inductance,
     };
     let warnings = collect_warnings(case, &summary, &traces, wp_delta);
-    Ok(RunResult { traces, rings: ring_traces, summary, stats, mesh: mesh_info, warnings })
+    Ok(RunResult {
+        traces,
+        rings: ring_traces,
+        summary,
+        stats,
+        mesh: mesh_info,
+        warnings,
+        probes: probe_traces,
+    })
 }
 
 fn collect_warnings(case: &Case, s: &Summary, traces: &Traces, wp_delta: Option<f64>) -> Vec<String> {

@@ -58,3 +58,36 @@ fn series_rlc_matches_analytic_solution() {
     assert!(s.energy.relative_residual.abs() < 1e-6, "residual {}", s.energy.relative_residual);
     eprintln!("{:?}\n{:?}", result.stats, s);
 }
+
+/// A crowbar closing at the first zero of v_C leaves an L-R loop: no voltage reversal, and
+/// after closing i(t) = i_cb exp(−(t − t_cb) R'/L') with R' the loop resistance plus the
+/// crowbar's (NOTES E2: textbook crowbarred discharge). Closing happens where v_C = 0, which for
+/// the series RLC is at ωt = π − atan(ω/α) (E1).
+#[test]
+fn crowbar_closes_at_voltage_zero_and_current_decays_exponentially() {
+    let mut case = rlc_case();
+    case.bank.crowbar = Some(ringpulse_case::Crowbar { resistance: 2e-3, inductance: 0.0 });
+    case.solver.end_time = Some(150e-6);
+    let prepared = prepare(&case).unwrap();
+    let net = &prepared.network;
+    let l = net.l_loops[(0, 0)];
+    let r_loop = case.bank.resistance + net.r_filaments[0];
+    let rlc = SeriesRlc { c: case.bank.capacitance, v0: case.bank.voltage, l, r: r_loop };
+    let result = run_prepared(&case, prepared.clone()).unwrap();
+    let s = &result.summary;
+    let t_cb_exact = (std::f64::consts::PI - (rlc.omega() / rlc.alpha()).atan()) / rlc.omega();
+    let t_cb = s.crowbar_time.unwrap();
+    assert!(rel(t_cb, t_cb_exact) < 1e-6, "crowbar time {t_cb:e} vs {t_cb_exact:e}");
+    assert!(s.voltage_reversal_percent < 1e-6, "reversal {}", s.voltage_reversal_percent);
+    let i_cb = rlc.current(t_cb_exact);
+    let decay = (r_loop + 2e-3) / l;
+    for (k, &t) in result.traces.time.iter().enumerate() {
+        if t > t_cb + 1e-6 {
+            let exact = i_cb * (-(t - t_cb) * decay).exp();
+            assert!((result.traces.coil_current[k] - exact).abs() < 1e-6 * i_cb, "i at t = {t:e} s");
+            assert_eq!(result.traces.capacitor_voltage[k], 0.0);
+        }
+    }
+    assert!(s.energy.relative_residual.abs() < 1e-6);
+    assert!(s.energy.crowbar > 0.0);
+}

@@ -38,9 +38,8 @@ pub struct Network {
     pub l_loops_inv: DMatrix<f64>,
     /// Filament resistances, in ohms.
     pub r_filaments: Vec<f64>,
-    /// dL/dr for workpiece rows: `grad_r[(k, j)] = ∂M_kj/∂r_k` (j ≠ k) and `½ ∂L_kk/∂r_k` on the
-    /// diagonal, so that the radial force on workpiece filament k is `i_k · (grad_r.row(k) · i)`,
-    /// in H/m. Row k is workpiece filament `workpiece_start + k`.
+    /// Force factors: `grad_r[(k, j)] = ∂M_kj/∂r_k` (j ≠ k) and `½ ∂L_kk/∂r_k` on the diagonal,
+    /// so that the radial force on filament k is `i_k · (grad_r.row(k) · i)`, in H/m.
     pub grad_r: DMatrix<f64>,
     /// `grad_z[(k, j)] = ∂M_kj/∂z_k` (zero on the diagonal), in H/m.
     pub grad_z: DMatrix<f64>,
@@ -51,42 +50,29 @@ pub struct Network {
     pub coil_inductance: f64,
 }
 
-/// Assembles the filament inductance matrix and the workpiece force factors.
+/// Assembles the filament inductance matrix and the force factors of every filament.
 ///
 /// Mutual terms come from Maxwell's formula for two coaxial filaments (at the cell centres) and
 /// the self terms from the geometric-mean-distance formula of a rectangular section.
 pub fn assemble_filaments(mesh: &Mesh) -> (DMatrix<f64>, DMatrix<f64>, DMatrix<f64>) {
     let n = mesh.filaments.len();
-    let w0 = mesh.workpiece_start();
-    let nw = n - w0;
     let mut l = DMatrix::<f64>::zeros(n, n);
-    let mut grad_r = DMatrix::<f64>::zeros(nw, n);
-    let mut grad_z = DMatrix::<f64>::zeros(nw, n);
+    let mut grad_r = DMatrix::<f64>::zeros(n, n);
+    let mut grad_z = DMatrix::<f64>::zeros(n, n);
     for i in 0..n {
         let fi = &mesh.filaments[i];
         l[(i, i)] = inductance::ring_rectangular(fi.r, fi.dr, fi.dz);
-        if i >= w0 {
-            grad_r[(i - w0, i)] = 0.5 * inductance::ring_rectangular_dradius(fi.r, fi.dr, fi.dz);
-        }
+        grad_r[(i, i)] = 0.5 * inductance::ring_rectangular_dradius(fi.r, fi.dr, fi.dz);
         for j in (i + 1)..n {
             let fj = &mesh.filaments[j];
-            if j < w0 {
-                // Coil-coil pairs need no force factors (the coil is held).
-                let m = filament::mutual_inductance(fi.r, fj.r, fj.z - fi.z);
-                l[(i, j)] = m;
-                l[(j, i)] = m;
-                continue;
-            }
-            // Ring a = i at z_i, ring b = j at z_j; dm_db = ∂M/∂r_j, dm_dz = ∂M/∂z_j = -∂M/∂z_i.
+            // Ring a = i at z_i, ring b = j at z_j; dm_db = ∂M/∂r_j, dm_dz = ∂M/∂z_j = −∂M/∂z_i.
             let g = filament::mutual_inductance_with_gradient(fi.r, fj.r, fj.z - fi.z);
             l[(i, j)] = g.m;
             l[(j, i)] = g.m;
-            grad_r[(j - w0, i)] = g.dm_db;
-            grad_z[(j - w0, i)] = g.dm_dz;
-            if i >= w0 {
-                grad_r[(i - w0, j)] = g.dm_da;
-                grad_z[(i - w0, j)] = -g.dm_dz;
-            }
+            grad_r[(j, i)] = g.dm_db;
+            grad_z[(j, i)] = g.dm_dz;
+            grad_r[(i, j)] = g.dm_da;
+            grad_z[(i, j)] = -g.dm_dz;
         }
     }
     (l, grad_r, grad_z)

@@ -124,6 +124,20 @@ pub struct Summary {
     /// Largest absolute net axial force on the workpiece, in newtons.
     #[serde(rename = "peak_axial_force_N")]
     pub peak_axial_force: f64,
+    /// Largest hoop stress in a coil turn from its own magnetic force (thin-ring estimate
+    /// F_r / (2π A)), in pascals; signed: positive tension (bursting), negative compression.
+    #[serde(rename = "peak_coil_hoop_stress_Pa")]
+    pub peak_coil_hoop_stress: f64,
+    /// Largest net radial magnetic force per area of a turn's face towards the workpiece, in
+    /// pascals.
+    #[serde(rename = "peak_coil_pressure_Pa")]
+    pub peak_coil_pressure: f64,
+    /// Highest coil filament temperature at the end, adiabatic estimate, in kelvin.
+    #[serde(rename = "peak_coil_temperature_K")]
+    pub peak_coil_temperature: f64,
+    /// Highest workpiece filament temperature at the end, adiabatic estimate, in kelvin.
+    #[serde(rename = "peak_workpiece_temperature_K")]
+    pub peak_workpiece_temperature: Option<f64>,
     /// Energy account at the end of the run.
     pub energy: EnergyAccount,
     /// End time of the transient, in seconds.

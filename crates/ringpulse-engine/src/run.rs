@@ -96,6 +96,10 @@ struct Observation {
     ring_current: Vec<f64>,
     ring_pressure: Vec<f64>,
     ring_axial_force: Vec<f64>,
+    /// Net radial force on each coil turn, in newtons, positive outward.
+    turn_radial_force: Vec<f64>,
+    /// Filament currents, in amperes.
+    filament_currents: DVector<f64>,
 }
 
 /// Geometry of the workpiece rings needed to turn forces into pressures.
@@ -144,46 +148,69 @@ fn ring_geometry(case: &Case, net: &Network) -> RingGeometry {
     g
 }
 
-fn observe(
+/// Observes a batch of states of one segment. The loop currents and force factors of all
+/// states are computed as matrix products, which is several times faster than one
+/// matrix-vector product per state.
+fn observe_batch(
     net: &Network,
     rhs: &Rhs<'_>,
     rings: &RingGeometry,
     scales: &Scales,
-    y: &DVector<f64>,
-) -> Observation {
+    ys: &[DVector<f64>],
+) -> Vec<Observation> {
     let nl = net.n_loops();
-    let x = rhs.loop_currents(y);
-    let mut i_f = DVector::zeros(net.mesh.filaments.len());
-    net.filament_currents(&x, &mut i_f);
-    let dy = rhs.derivative(y);
-    let dpsi = dy.rows(0, nl) * scales.psi;
-    let di_dt = net.l_loops_inv.row(0).transpose().dot(&dpsi);
+    let n = net.mesh.filaments.len();
     let w0 = net.mesh.workpiece_start();
-    let iw = i_f.rows(w0, i_f.len() - w0);
-    let gr = &net.grad_r * &i_f;
-    let gz = &net.grad_z * &i_f;
-    let n_rings = rings.face_area.len();
-    let mut obs = Observation {
-        coil_current: x[0],
-        voltage: y[nl + slot::V] * scales.volt,
-        di_dt,
-        workpiece_current: iw.sum(),
-        radial_force: 0.0,
-        axial_force: 0.0,
-        ring_current: vec![0.0; n_rings],
-        ring_pressure: vec![0.0; n_rings],
-        ring_axial_force: vec![0.0; n_rings],
-    };
-    for (k, &ring) in rings.ring_of.iter().enumerate() {
-        let fr = iw[k] * gr[k];
-        let fz = iw[k] * gz[k];
-        obs.radial_force += fr;
-        obs.axial_force += fz;
-        obs.ring_current[ring] += iw[k];
-        obs.ring_pressure[ring] += rings.sign * fr / rings.face_area[ring];
-        obs.ring_axial_force[ring] += fz;
+    let nw = n - w0;
+    let mut psi = DMatrix::<f64>::zeros(nl, ys.len());
+    for (c, y) in ys.iter().enumerate() {
+        psi.column_mut(c).copy_from(&(y.rows(0, nl) * scales.psi));
     }
-    obs
+    let x = &net.l_loops_inv * &psi;
+    let mut i_f = DMatrix::<f64>::zeros(n, ys.len());
+    let mut column = DVector::zeros(n);
+    for c in 0..ys.len() {
+        net.filament_currents(&x.column(c).into_owned(), &mut column);
+        i_f.column_mut(c).copy_from(&column);
+    }
+    let gr = &net.grad_r * &i_f;
+    let gz = net.grad_z.rows(w0, nw) * &i_f;
+    let n_rings = rings.face_area.len();
+    let mut out = Vec::with_capacity(ys.len());
+    for (c, y) in ys.iter().enumerate() {
+        let xc = x.column(c).into_owned();
+        let ic = i_f.column(c);
+        let mut obs = Observation {
+            coil_current: xc[0],
+            voltage: y[nl + slot::V] * scales.volt,
+            di_dt: rhs.bank_current_rate(y, &xc),
+            workpiece_current: ic.rows(w0, nw).sum(),
+            radial_force: 0.0,
+            axial_force: 0.0,
+            ring_current: vec![0.0; n_rings],
+            ring_pressure: vec![0.0; n_rings],
+            ring_axial_force: vec![0.0; n_rings],
+            turn_radial_force: vec![0.0; net.mesh.turns],
+            filament_currents: ic.into_owned(),
+        };
+        for (f, fil) in net.mesh.filaments[..w0].iter().enumerate() {
+            if let Part::Coil { turn } = fil.part {
+                obs.turn_radial_force[turn] += i_f[(f, c)] * gr[(f, c)];
+            }
+        }
+        for (k, &ring) in rings.ring_of.iter().enumerate() {
+            let i_k = i_f[(w0 + k, c)];
+            let fr = i_k * gr[(w0 + k, c)];
+            let fz = i_k * gz[(k, c)];
+            obs.radial_force += fr;
+            obs.axial_force += fz;
+            obs.ring_current[ring] += i_k;
+            obs.ring_pressure[ring] += rings.sign * fr / rings.face_area[ring];
+            obs.ring_axial_force[ring] += fz;
+        }
+        out.push(obs);
+    }
+    out
 }
 
 /// Runs a case end to end and returns its traces, summary and statistics.
@@ -228,7 +255,7 @@ pub fn run_with_probes(
     let settings = StepperSettings {
         rel_tol: case.solver.rel_tol,
         abs_tol: case.solver.abs_tol,
-        max_step: (period / 40.0).min(t_end),
+        max_step: (period / 10.0).min(t_end),
         max_steps: 5_000_000,
     };
     let nl = net.n_loops();
@@ -312,20 +339,40 @@ pub fn run_with_probes(
     let mut probe_traces: Vec<ProbeTrace> =
         probes.iter().map(|&(r, z)| ProbeTrace { r, z, ..ProbeTrace::default() }).collect();
     let mut di_dt_max: f64 = 0.0;
+    // ∫ i_f² dt per filament by the trapezoidal rule on the output grid, in A² s.
+    let n_fil = net.mesh.filaments.len();
+    let mut filament_action = vec![0.0; n_fil];
+    let mut previous_sq: Option<(f64, Vec<f64>)> = None;
+    let mut hoop_peak: f64 = 0.0;
+    let mut coil_pressure_peak: f64 = 0.0;
+    let coil = &case.coil;
+    let turn_area = coil.radial_thickness * coil.axial_width;
+    let coil_face_radius = match net.mesh.arrangement {
+        Some(Arrangement::CoilOutside) => coil.mean_radius - coil.radial_thickness / 2.0,
+        _ => coil.mean_radius + coil.radial_thickness / 2.0,
+    };
     let mut peak_pressure: Option<PeakPressure> = None;
-    for k in 0..n_samples {
-        let t = (k as f64 * dt_out).min(t_end);
-        let (seg, n) = segment_at(t);
-        let y = seg.state(t);
-        let obs = observe(n, rhs_at(t), &rings, &scales, &y);
-        if !probes.is_empty() {
-            let x = rhs_at(t).loop_currents(&y);
-            let mut i_f = DVector::zeros(n.mesh.filaments.len());
-            n.filament_currents(&x, &mut i_f);
-            for (trace, (gr, gz)) in probe_traces.iter_mut().zip(&probe_gains) {
-                trace.b_r.push(gr.dot(&i_f));
-                trace.b_z.push(gz.dot(&i_f));
-            }
+    let times: Vec<f64> = (0..n_samples).map(|k| (k as f64 * dt_out).min(t_end)).collect();
+    let in_second = |t: f64| second.as_ref().is_some_and(|(seg, _)| t > seg.t_start);
+    let mut observations: Vec<Observation> = Vec::with_capacity(n_samples);
+    let mut start = 0;
+    while start < n_samples {
+        // A chunk of samples from one segment, bounded to keep the batch matrices small.
+        let side = in_second(times[start]);
+        let mut end = start + 1;
+        while end < n_samples && end - start < 256 && in_second(times[end]) == side {
+            end += 1;
+        }
+        let (seg, n) = segment_at(times[start]);
+        let ys: Vec<DVector<f64>> = times[start..end].iter().map(|&t| seg.state(t)).collect();
+        observations.extend(observe_batch(n, rhs_at(times[start]), &rings, &scales, &ys));
+        start = end;
+    }
+    for (k, obs) in observations.into_iter().enumerate() {
+        let t = times[k];
+        for (trace, (gr, gz)) in probe_traces.iter_mut().zip(&probe_gains) {
+            trace.b_r.push(gr.dot(&obs.filament_currents));
+            trace.b_z.push(gz.dot(&obs.filament_currents));
         }
         traces.time.push(t);
         traces.coil_current.push(obs.coil_current);
@@ -344,6 +391,23 @@ pub fn run_with_probes(
         }
         traces.peak_pressure.push(if n_rings > 0 { p_max } else { 0.0 });
         di_dt_max = di_dt_max.max(obs.di_dt.abs());
+        for &f in &obs.turn_radial_force {
+            // Thin-ring hoop stress of a turn: tension T = F_r / (2π), σ = T / A.
+            let sigma = f / (2.0 * std::f64::consts::PI * turn_area);
+            if sigma.abs() > hoop_peak.abs() {
+                hoop_peak = sigma;
+            }
+            let p = f.abs() / (2.0 * std::f64::consts::PI * coil_face_radius * coil.axial_width);
+            coil_pressure_peak = coil_pressure_peak.max(p);
+        }
+        let sq: Vec<f64> = obs.filament_currents.iter().map(|i| i * i).collect();
+        if let Some((t_prev, prev)) = previous_sq.as_ref() {
+            let h = t - t_prev;
+            for f in 0..n_fil {
+                filament_action[f] += 0.5 * h * (prev[f] + sq[f]);
+            }
+        }
+        previous_sq = Some((t, sq));
         ring_rows.push((t, obs.ring_current, obs.ring_pressure, obs.ring_axial_force));
     }
 
@@ -426,7 +490,33 @@ pub fn run_with_probes(
         + energy.capacitor;
     energy.relative_residual = (e0 - accounted) / e0;
 
+    // Adiabatic temperature estimate per filament from its action with the linear resistivity
+    // law integrated in closed form (docs/theory.md, "Heating"): T = T0 + (exp(g ρ0' α/(ρ_m c)) − 1)/α.
+    let temperature = |f: usize| -> f64 {
+        let fil = &net.mesh.filaments[f];
+        let m = match fil.part {
+            Part::Coil { .. } => &case.coil.material,
+            Part::Workpiece { .. } => match case.workpiece.as_ref() {
+                Some(t) => &t.material,
+                None => &case.coil.material,
+            },
+        };
+        let g = filament_action[f] / (fil.area() * fil.area());
+        heating_temperature(fil.resistivity, m.temperature_coefficient, m.density * m.specific_heat, g, case.initial_temperature)
+    };
+    let w0 = net.mesh.workpiece_start();
+    let peak_coil_temperature = (0..w0).map(temperature).fold(case.initial_temperature, f64::max);
+    let peak_workpiece_temperature = if n_fil > w0 {
+        Some((w0..n_fil).map(temperature).fold(case.initial_temperature, f64::max))
+    } else {
+        None
+    };
+
     let summary = Summary {
+        peak_coil_hoop_stress: hoop_peak,
+        peak_coil_pressure: coil_pressure_peak,
+        peak_coil_temperature,
+        peak_workpiece_temperature,
         peak_coil_current: i_peak.max(i[k_peak].abs()),
         time_of_peak_current: t_peak,
         first_current_zero: first_zero.map(|z| z.1),
@@ -515,6 +605,20 @@ fn collect_warnings(case: &Case, s: &Summary, traces: &Traces, wp_delta: Option<
             ));
         }
     }
+    let near_melting = |what: &str, t: f64, m: &ringpulse_case::Material, out: &mut Vec<String>| {
+        // Warn from 80 % of the melting temperature in kelvin (common practice margin).
+        if t > 0.8 * m.melting_point {
+            out.push(format!(
+                "the {what} reaches {t:.0} K at its hottest filament (adiabatic estimate), near or \
+                 above its melting point of {:.0} K",
+                m.melting_point
+            ));
+        }
+    };
+    near_melting("coil", s.peak_coil_temperature, &case.coil.material, &mut out);
+    if let (Some(t), Some(tube)) = (s.peak_workpiece_temperature, case.workpiece.as_ref()) {
+        near_melting("workpiece", t, &tube.material, &mut out);
+    }
     if s.energy.relative_residual.abs() > 1e-3 {
         out.push(format!(
             "the energy account does not close: residual {:.2e} of the stored energy; tighten \
@@ -523,6 +627,17 @@ fn collect_warnings(case: &Case, s: &Summary, traces: &Traces, wp_delta: Option<
         ));
     }
     out
+}
+
+/// Adiabatic temperature after an action density `g` (A² s/m⁴) with ρ_e = ρ0 (1 + α (T − T0)):
+/// d(ρ_m c T)/dt = ρ_e j², integrated in closed form, in kelvin. `rho0` is ρ_e at `t0`, in Ω m;
+/// `heat_capacity` is ρ_m c, in J/(m³ K).
+pub fn heating_temperature(rho0: f64, alpha: f64, heat_capacity: f64, g: f64, t0: f64) -> f64 {
+    if alpha <= 0.0 {
+        return t0 + rho0 * g / heat_capacity;
+    }
+    // With ρ_e(T) = ρ0 (1 + α (T − T0)): dT/(1 + α(T − T0)) = ρ0 j² dt / (ρ_m c).
+    t0 + ((g * rho0 * alpha / heat_capacity).exp() - 1.0) / alpha
 }
 
 fn argmax_abs(v: &[f64]) -> usize {

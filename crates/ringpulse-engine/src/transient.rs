@@ -142,11 +142,24 @@ impl<'a> Rhs<'a> {
         &self.net.l_loops_inv * psi
     }
 
-    /// Time derivative of a scaled state (scaled units per second).
-    pub fn derivative(&self, y: &DVector<f64>) -> DVector<f64> {
-        let mut dy = DVector::zeros(y.len());
-        self.eval(y, &mut dy);
-        dy
+    /// Rate of change of the bank-loop current, in A/s, for a scaled state `y` whose loop
+    /// currents `x` (amperes) are already known: di₀/dt = (L⁻¹ dψ/dt)₀ with dψ/dt from `x`.
+    pub fn bank_current_rate(&self, y: &DVector<f64>, x: &DVector<f64>) -> f64 {
+        let net = self.net;
+        let nl = net.n_loops();
+        let mut i_f = DVector::zeros(net.mesh.filaments.len());
+        net.filament_currents(x, &mut i_f);
+        for (f, i) in i_f.iter_mut().enumerate() {
+            *i *= net.r_filaments[f];
+        }
+        let mut dpsi = DVector::zeros(nl);
+        net.loop_sums(&i_f, &mut dpsi);
+        dpsi.neg_mut();
+        let v = y[nl + slot::V] * self.scales.volt;
+        let source = if self.crowbarred { 0.0 } else { v };
+        let r_cb = if self.crowbarred { self.circuit.crowbar_resistance } else { 0.0 };
+        dpsi[0] += source - (self.circuit.external_resistance + r_cb) * x[0];
+        net.l_loops_inv.row(0).transpose().dot(&dpsi)
     }
 
     fn eval(&self, y: &DVector<f64>, dy: &mut DVector<f64>) {

@@ -1,0 +1,172 @@
+//! Output of ringpulse results: CSV tables, the JSON summary, plots and the terminal report.
+//!
+//! This is the only library crate that writes files. [`write_run`] is all-or-nothing: it
+//! writes into a sibling temporary directory and moves the files into place only when every
+//! one of them has been written, so a failure leaves no half-written output.
+
+use std::fs;
+use std::path::{Path, PathBuf};
+
+use ringpulse_engine::RunResult;
+use sha2::{Digest, Sha256};
+
+pub mod plots;
+pub mod report;
+pub mod tables;
+
+pub use report::{eng, format_report};
+
+/// The usual cautions for high-voltage capacitor banks, shown by the CLI and in reports.
+pub const SAFETY_NOTICE: &str = "\
+CAUTION: charged capacitor banks at kilovolts and kilojoules are lethal.
+- Stored energy persists after the charger is off, and dielectric absorption recharges a
+  capacitor that was shorted briefly: dump and ground the bank (bleeder resistors, automatic
+  dump switches, grounding sticks) and verify zero voltage before any contact.
+- Use interlocked enclosures, remote firing and a clear-area procedure; contain the coil and
+  the workpiece, since a failing coil or an ejected part flies at high velocity.
+- Discharges are loud (impulse noise) and the pulsed field endangers implanted medical devices
+  and induces voltages in nearby loops.
+ringpulse is a design aid, not a safety assessment: follow local codes, the equipment maker's
+instructions and licensed practice.";
+
+/// One-line form of the caution, for file headers and summaries.
+pub const SAFETY_LINE: &str = "high-voltage capacitor banks are lethal; ringpulse is a design aid, not a \
+safety assessment: follow local codes, the equipment maker's instructions and licensed practice";
+
+/// SHA-256 of the case file bytes, as lowercase hex.
+pub fn case_hash(case_bytes: &[u8]) -> String {
+    let digest = Sha256::digest(case_bytes);
+    digest.iter().map(|b| format!("{b:02x}")).collect()
+}
+
+/// Where a result came from: recorded in summary.json so that results can be traced.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct RunMeta {
+    /// ringpulse version that produced the result.
+    pub version: String,
+    /// Path of the case file as given.
+    pub case_path: String,
+    /// SHA-256 of the case file bytes.
+    pub case_sha256: String,
+    /// The case's description.
+    pub description: String,
+}
+
+/// What to write.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct WriteOptions {
+    /// Draw the plots (PNG and SVG). Default: true.
+    pub plots: bool,
+}
+
+impl Default for WriteOptions {
+    fn default() -> Self {
+        WriteOptions { plots: true }
+    }
+}
+
+/// Errors while writing output.
+#[derive(Debug, thiserror::Error)]
+pub enum OutputError {
+    /// A file or directory could not be written.
+    #[error("cannot write \"{path}\": {source}")]
+    Io {
+        /// The path concerned.
+        path: PathBuf,
+        /// The underlying error.
+        source: std::io::Error,
+    },
+    /// A plot could not be drawn.
+    #[error("cannot draw plot \"{path}\": {message}")]
+    Plot {
+        /// The plot file.
+        path: PathBuf,
+        /// What the plotting library said.
+        message: String,
+    },
+    /// A value could not be serialised.
+    #[error("cannot encode \"{path}\": {message}")]
+    Encode {
+        /// The file concerned.
+        path: PathBuf,
+        /// What went wrong.
+        message: String,
+    },
+}
+
+pub(crate) fn io_err(path: &Path) -> impl FnOnce(std::io::Error) -> OutputError + '_ {
+    move |source| OutputError::Io { path: path.to_path_buf(), source }
+}
+
+/// Writes timeseries.csv, rings.csv, summary.json and the plots of a run into `out_dir`.
+///
+/// All files are first written into `<out_dir>.partial-<pid>` beside it and moved into
+/// `out_dir` (created if needed; files of the same names are replaced, others left alone)
+/// only when all of them are complete. On error the temporary directory is removed.
+/// Returns the paths written, inside `out_dir`.
+pub fn write_run(
+    out_dir: &Path,
+    meta: &RunMeta,
+    result: &RunResult,
+    opts: &WriteOptions,
+) -> Result<Vec<PathBuf>, OutputError> {
+    write_atomically(out_dir, |tmp| {
+        let mut files = vec![
+            tables::write_timeseries(&tmp.join("timeseries.csv"), result)?,
+            tables::write_summary(&tmp.join("summary.json"), meta, result)?,
+        ];
+        if !result.rings.z.is_empty() {
+            files.push(tables::write_rings(&tmp.join("rings.csv"), result)?);
+        }
+        if opts.plots {
+            files.extend(plots::draw_all(tmp, result)?);
+        }
+        Ok(files)
+    })
+}
+
+/// Runs `write` against a fresh temporary directory beside `out_dir`, then moves what it wrote
+/// into `out_dir`. The closure returns the files it wrote (paths inside the temporary
+/// directory).
+pub fn write_atomically(
+    out_dir: &Path,
+    write: impl FnOnce(&Path) -> Result<Vec<PathBuf>, OutputError>,
+) -> Result<Vec<PathBuf>, OutputError> {
+    let name = out_dir.file_name().map_or_else(|| "out".into(), |n| n.to_string_lossy().into_owned());
+    let parent = match out_dir.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let tmp = parent.join(format!("{name}.partial-{}", std::process::id()));
+    if tmp.exists() {
+        fs::remove_dir_all(&tmp).map_err(io_err(&tmp))?;
+    }
+    fs::create_dir_all(&tmp).map_err(io_err(&tmp))?;
+    let outcome = write(&tmp).and_then(|files| {
+        fs::create_dir_all(out_dir).map_err(io_err(out_dir))?;
+        let mut moved = Vec::with_capacity(files.len());
+        for f in files {
+            let Some(file_name) = f.file_name() else { continue };
+            let dest = out_dir.join(file_name);
+            fs::rename(&f, &dest).map_err(io_err(&dest))?;
+            moved.push(dest);
+        }
+        Ok(moved)
+    });
+    let _ = fs::remove_dir_all(&tmp);
+    outcome
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn hash_is_sha256_hex() {
+        // SHA-256 of "abc" (FIPS 180-2, appendix B.1).
+        assert_eq!(
+            case_hash(b"abc"),
+            "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+        );
+    }
+}

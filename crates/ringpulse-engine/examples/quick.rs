@@ -10,7 +10,8 @@ fn main() {
         }
     };
     if let Some(f) = std::env::args().nth(2).and_then(|s| s.parse::<f64>().ok()) {
-        case.discretization.mode = ringpulse_case::Resolution::SkinDepth { cell_over_skin_depth: f };
+        case.discretization.mode =
+            ringpulse_case::Resolution::SkinDepth { cell_over_skin_depth: f };
     }
     let t = std::time::Instant::now();
     match ringpulse_engine::run(&case) {

@@ -15,7 +15,9 @@ pub mod run;
 pub mod transient;
 
 pub use results::*;
-pub use run::{estimate_frequency, prepare, run, run_prepared, run_with_probes, FrequencyEstimate, Prepared};
+pub use run::{
+    estimate_frequency, prepare, run, run_prepared, run_with_probes, FrequencyEstimate, Prepared,
+};
 
 /// Errors of the engine. Each names what the engineer can change.
 #[derive(Debug, thiserror::Error, Clone, PartialEq)]

@@ -113,7 +113,8 @@ pub fn turn_center(coil: &Coil, turn: usize) -> f64 {
 /// the aspect limit holds; the loop is bounded because each pass shortens the longer side.
 pub fn split_rectangle(radial: f64, axial: f64, target: f64, max_aspect: f64) -> Split {
     let count = |size: f64| -> usize {
-        let n = (size / target).ceil();
+        // A tiny allowance keeps exact fits (size = k x target) from rounding up to k + 1 cells.
+        let n = (size / target * (1.0 - 1e-9)).ceil();
         if n.is_finite() && n >= 1.0 {
             n.min(1.0e7) as usize
         } else {
@@ -257,7 +258,8 @@ pub trait ResistivityAt {
 
 impl ResistivityAt for ringpulse_case::Material {
     fn resistivity_at(&self, temperature: f64) -> f64 {
-        let factor = 1.0 + self.temperature_coefficient * (temperature - self.reference_temperature);
+        let factor =
+            1.0 + self.temperature_coefficient * (temperature - self.reference_temperature);
         self.resistivity * factor.max(1e-3)
     }
 }

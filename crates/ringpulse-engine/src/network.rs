@@ -128,7 +128,8 @@ impl Network {
         let mut l_loops = project(&l_filaments, &loops);
         let coil_inductance = coil_only_inductance(&mesh, &l_filaments, &loops);
         l_loops[(0, 0)] += external_inductance;
-        let l_loops_inv = invert_spd(&l_loops).ok_or_else(|| diagnose_indefinite(&mesh, &l_filaments))?;
+        let l_loops_inv =
+            invert_spd(&l_loops).ok_or_else(|| diagnose_indefinite(&mesh, &l_filaments))?;
         let r_filaments = mesh.filaments.iter().map(|f| f.resistance()).collect();
         Ok(Network {
             mesh,
@@ -255,7 +256,8 @@ fn diagnose_indefinite(mesh: &Mesh, l: &DMatrix<f64>) -> EngineError {
         };
     }
     EngineError::IndefiniteInductance {
-        conductor: "the coupling between coil and workpiece (conductors too close for their cell size)"
-            .to_string(),
+        conductor:
+            "the coupling between coil and workpiece (conductors too close for their cell size)"
+                .to_string(),
     }
 }

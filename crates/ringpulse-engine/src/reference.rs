@@ -148,12 +148,5 @@ pub fn tube(
     material_name: &str,
     split: Option<Split>,
 ) -> Tube {
-    Tube {
-        inner_radius,
-        wall,
-        length,
-        z_center: 0.0,
-        material: material(material_name),
-        split,
-    }
+    Tube { inner_radius, wall, length, z_center: 0.0, material: material(material_name), split }
 }

@@ -85,6 +85,9 @@ pub fn prepare(case: &Case) -> Result<Prepared, EngineError> {
     Ok(Prepared { network, estimate, assembly_time: started.elapsed().as_secs_f64() })
 }
 
+/// One sample of per-ring data: time, ring currents, pressures and axial forces.
+type RingRow = (f64, Vec<f64>, Vec<f64>, Vec<f64>);
+
 /// What is observed of the circuit at one instant.
 struct Observation {
     coil_current: f64,
@@ -263,8 +266,17 @@ pub fn run_with_probes(
     y0[nl + slot::V] = 1.0;
 
     // Segment 1: switch closed at t = 0.
-    let mut first =
-        integrate_segment(&net, circuit, scales, false, bank.crowbar.is_some(), 0.0, t_end, y0, &settings)?;
+    let mut first = integrate_segment(
+        &net,
+        circuit,
+        scales,
+        false,
+        bank.crowbar.is_some(),
+        0.0,
+        t_end,
+        y0,
+        &settings,
+    )?;
     let mut second: Option<(Segment, Option<Network>)> = None;
     let mut crowbar_time = None;
     if let (Some((ta, tb)), Some(cb)) = (first.crossing, bank.crowbar.as_ref()) {
@@ -287,7 +299,9 @@ pub fn run_with_probes(
         }
         if t_cb < t_end {
             let seg_net = net2.as_ref().unwrap_or(&net);
-            let seg = integrate_segment(seg_net, circuit, scales, true, false, t_cb, t_end, y_cb, &settings)?;
+            let seg = integrate_segment(
+                seg_net, circuit, scales, true, false, t_cb, t_end, y_cb, &settings,
+            )?;
             second = Some((seg, net2));
         }
     }
@@ -319,7 +333,7 @@ pub fn run_with_probes(
     let rings = ring_geometry(case, &net);
     let n_rings = rings.face_area.len();
     let mut traces = Traces::default();
-    let mut ring_rows: Vec<(f64, Vec<f64>, Vec<f64>, Vec<f64>)> = Vec::with_capacity(n_samples);
+    let mut ring_rows: Vec<RingRow> = Vec::with_capacity(n_samples);
     // Field per unit filament current at each probe (B_r row, B_z row), from the loop field.
     let probe_gains: Vec<(DVector<f64>, DVector<f64>)> = probes
         .iter()
@@ -442,9 +456,9 @@ pub fn run_with_probes(
     let (t_peak, i_peak) = golden_max(lo, hi, |t| sign * coil_current_at(t));
     let zero_after = |from: usize| -> Option<(usize, f64)> {
         let s0 = if i[from] >= 0.0 { 1.0 } else { -1.0 };
-        (from + 1..n_samples).find(|&k| s0 * i[k] <= 0.0).map(|k| {
-            (k, bisect_zero(tt[k - 1], tt[k], |t| s0 * coil_current_at(t)))
-        })
+        (from + 1..n_samples)
+            .find(|&k| s0 * i[k] <= 0.0)
+            .map(|k| (k, bisect_zero(tt[k - 1], tt[k], |t| s0 * coil_current_at(t))))
     };
     let first_zero = zero_after(k_peak);
     let second_zero = first_zero.and_then(|(k, _)| zero_after(k));
@@ -502,7 +516,13 @@ pub fn run_with_probes(
             },
         };
         let g = filament_action[f] / (fil.area() * fil.area());
-        heating_temperature(fil.resistivity, m.temperature_coefficient, m.density * m.specific_heat, g, case.initial_temperature)
+        heating_temperature(
+            fil.resistivity,
+            m.temperature_coefficient,
+            m.density * m.specific_heat,
+            g,
+            case.initial_temperature,
+        )
     };
     let w0 = net.mesh.workpiece_start();
     let peak_coil_temperature = (0..w0).map(temperature).fold(case.initial_temperature, f64::max);
@@ -535,11 +555,7 @@ pub fn run_with_probes(
         end_time: t_end,
     };
 
-    let mut stats = SolverStats {
-        min_dt: f64::INFINITY,
-        assembly_time,
-        ..SolverStats::default()
-    };
+    let mut stats = SolverStats { min_dt: f64::INFINITY, assembly_time, ..SolverStats::default() };
     for seg in std::iter::once(&first).chain(second.as_ref().map(|(s, _)| s)) {
         stats.steps += seg.counts.0;
         stats.rejected_steps += seg.counts.1;
@@ -554,7 +570,8 @@ pub fn run_with_probes(
     stats.stepping_time = started.elapsed().as_secs_f64();
 
     let mesh = &net.mesh;
-    let coil_delta = ringpulse_physics::em::skin_depth(case.coil.material.resistivity, estimate.frequency);
+    let coil_delta =
+        ringpulse_physics::em::skin_depth(case.coil.material.resistivity, estimate.frequency);
     let wp_delta = case
         .workpiece
         .as_ref()
@@ -581,7 +598,12 @@ pub fn run_with_probes(
     })
 }
 
-fn collect_warnings(case: &Case, s: &Summary, traces: &Traces, wp_delta: Option<f64>) -> Vec<String> {
+fn collect_warnings(
+    case: &Case,
+    s: &Summary,
+    traces: &Traces,
+    wp_delta: Option<f64>,
+) -> Vec<String> {
     let mut out = Vec::new();
     if let (Some(tube), Some(delta)) = (case.workpiece.as_ref(), wp_delta) {
         if delta > tube.wall {

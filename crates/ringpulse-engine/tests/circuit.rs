@@ -4,6 +4,8 @@
 //! text; H. Knoepfel, "Pulsed High Magnetic Fields", North-Holland 1970, for the pulsed-power
 //! form), implemented in `ringpulse_engine::reference::SeriesRlc`, and the crowbarred L-R decay.
 
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)]
+
 use ringpulse_case::Split;
 use ringpulse_engine::reference::{coil, simple_case, SeriesRlc};
 use ringpulse_engine::{prepare, run_prepared};
@@ -43,7 +45,12 @@ fn series_rlc_matches_analytic_solution() {
     let s = &result.summary;
     let i_peak = rlc.current(rlc.peak_time());
     assert!(rel(s.peak_coil_current, i_peak) < 1e-5, "peak {} vs {}", s.peak_coil_current, i_peak);
-    assert!(rel(s.time_of_peak_current, rlc.peak_time()) < 1e-4, "t_peak {} vs {}", s.time_of_peak_current, rlc.peak_time());
+    assert!(
+        rel(s.time_of_peak_current, rlc.peak_time()) < 1e-4,
+        "t_peak {} vs {}",
+        s.time_of_peak_current,
+        rlc.peak_time()
+    );
     let z = s.first_current_zero.unwrap();
     assert!(rel(z, rlc.first_zero()) < 1e-5, "zero {} vs {}", z, rlc.first_zero());
     let rev = s.voltage_reversal_percent / 100.0;
@@ -53,7 +60,10 @@ fn series_rlc_matches_analytic_solution() {
         let exact = rlc.current(t);
         assert!((result.traces.coil_current[k] - exact).abs() < 1e-6 * i_peak, "i at t = {t:e} s");
         let v = rlc.voltage(t);
-        assert!((result.traces.capacitor_voltage[k] - v).abs() < 1e-6 * case.bank.voltage, "v at t = {t:e} s");
+        assert!(
+            (result.traces.capacitor_voltage[k] - v).abs() < 1e-6 * case.bank.voltage,
+            "v at t = {t:e} s"
+        );
     }
     assert!(s.energy.relative_residual.abs() < 1e-6, "residual {}", s.energy.relative_residual);
     eprintln!("{:?}\n{:?}", result.stats, s);
@@ -84,7 +94,10 @@ fn crowbar_closes_at_voltage_zero_and_current_decays_exponentially() {
     for (k, &t) in result.traces.time.iter().enumerate() {
         if t > t_cb + 1e-6 {
             let exact = i_cb * (-(t - t_cb) * decay).exp();
-            assert!((result.traces.coil_current[k] - exact).abs() < 1e-6 * i_cb, "i at t = {t:e} s");
+            assert!(
+                (result.traces.coil_current[k] - exact).abs() < 1e-6 * i_cb,
+                "i at t = {t:e} s"
+            );
             assert_eq!(result.traces.capacitor_voltage[k], 0.0);
         }
     }

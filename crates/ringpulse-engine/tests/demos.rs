@@ -6,6 +6,8 @@
 //! default split (one skin depth) and one twice as fine. The positive-definiteness check is
 //! the Cholesky factorisation (a symmetric matrix is positive definite exactly when it has one).
 
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)]
+
 use std::path::PathBuf;
 
 use nalgebra::Cholesky;
@@ -35,7 +37,11 @@ fn demo_inductance_matrices_are_positive_definite() {
         let case = load(&path);
         let prepared = prepare(&case).unwrap();
         let net = &prepared.network;
-        assert!(Cholesky::new(net.l_filaments.clone()).is_some(), "{}: filament matrix", path.display());
+        assert!(
+            Cholesky::new(net.l_filaments.clone()).is_some(),
+            "{}: filament matrix",
+            path.display()
+        );
         assert!(Cholesky::new(net.l_loops.clone()).is_some(), "{}: loop matrix", path.display());
         let asym = (&net.l_filaments - net.l_filaments.transpose()).abs().max();
         assert!(asym == 0.0, "{}: L not symmetric ({asym:e})", path.display());
@@ -48,8 +54,17 @@ fn demo_energy_accounts_close() {
         let case = load(&path);
         let r = run(&case).unwrap();
         let e = &r.summary.energy;
-        assert!(e.relative_residual.abs() < 1e-4, "{}: residual {:e}", path.display(), e.relative_residual);
-        assert!(e.coil > 0.0 && e.bank_and_feeder > 0.0, "{}: dissipation must be positive", path.display());
+        assert!(
+            e.relative_residual.abs() < 1e-4,
+            "{}: residual {:e}",
+            path.display(),
+            e.relative_residual
+        );
+        assert!(
+            e.coil > 0.0 && e.bank_and_feeder > 0.0,
+            "{}: dissipation must be positive",
+            path.display()
+        );
         if case.workpiece.is_some() {
             assert!(e.workpiece > 0.0, "{}: workpiece heating", path.display());
         }
@@ -72,13 +87,27 @@ fn default_discretization_is_converged() {
         ];
         for (what, x, y) in checks {
             let rel = (x - y).abs() / y.abs();
-            assert!(rel < 0.02, "{}: {what} changes by {:.2} % ({x:e} vs {y:e})", path.display(), rel * 100.0);
+            assert!(
+                rel < 0.02,
+                "{}: {what} changes by {:.2} % ({x:e} vs {y:e})",
+                path.display(),
+                rel * 100.0
+            );
         }
         // The ring launch is driven axially: its axial force must converge as well.
         if b.peak_axial_force > b.peak_radial_force {
             let rel = (a.peak_axial_force - b.peak_axial_force).abs() / b.peak_axial_force;
-            assert!(rel < 0.02, "{}: peak axial force changes by {:.2} %", path.display(), rel * 100.0);
+            assert!(
+                rel < 0.02,
+                "{}: peak axial force changes by {:.2} %",
+                path.display(),
+                rel * 100.0
+            );
         }
-        assert!(fine.mesh.coil_filaments >= 3 * coarse.mesh.coil_filaments, "{}: fine split", path.display());
+        assert!(
+            fine.mesh.coil_filaments >= 3 * coarse.mesh.coil_filaments,
+            "{}: fine split",
+            path.display()
+        );
     }
 }

@@ -1,5 +1,7 @@
 //! Clear errors instead of nonsense: too many filaments, an indefinite inductance matrix.
 
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)]
+
 use ringpulse_case::Split;
 use ringpulse_engine::reference::{coil, simple_case, tube};
 use ringpulse_engine::{prepare, run, EngineError};
@@ -43,6 +45,8 @@ fn names_the_split_of_an_indefinite_matrix() {
         Err(EngineError::IndefiniteInductance { conductor }) => {
             assert!(conductor.contains("coil turn 0 split 80 x 1"), "{conductor}");
         }
-        other => panic!("expected IndefiniteInductance, got {:?}", other.map(|p| p.network.n_loops())),
+        other => {
+            panic!("expected IndefiniteInductance, got {:?}", other.map(|p| p.network.n_loops()))
+        }
     }
 }

@@ -6,9 +6,11 @@
 //! τ dB_in/dt = B_out − B_in (H. Knoepfel, "Pulsed High Magnetic Fields", 1970 — derivation in
 //! docs/theory.md: a one-turn solenoid of L' = μ0 π a² and R' = 2π a /(σ d) per unit length).
 
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)]
+
 use ringpulse_case::{Crowbar, Split};
 use ringpulse_engine::reference::{coil, simple_case, tube};
-use ringpulse_engine::{prepare, run_prepared, run_with_probes};
+use ringpulse_engine::{prepare, run_with_probes};
 use ringpulse_physics::MU0;
 
 /// A long coil outside a thick copper tube: near the middle, the net pressure on the tube equals
@@ -37,7 +39,9 @@ fn long_coil_pressure_matches_solenoid_field() {
         .time
         .iter()
         .enumerate()
-        .min_by(|a, b| (a.1 - s.time_of_peak_current).abs().total_cmp(&(b.1 - s.time_of_peak_current).abs()))
+        .min_by(|a, b| {
+            (a.1 - s.time_of_peak_current).abs().total_cmp(&(b.1 - s.time_of_peak_current).abs())
+        })
         .unwrap();
     let k = result.traces.time.iter().position(|&x| x == t).unwrap();
     let current = result.traces.coil_current[k];
@@ -49,7 +53,10 @@ fn long_coil_pressure_matches_solenoid_field() {
     let p_mid = mid.iter().map(|&r| rings.pressure[k_ring][r]).sum::<f64>() / mid.len() as f64;
     let err = (p_mid - expected) / expected;
     eprintln!("long coil: mid pressure rel err {err:e}");
-    assert!(err.abs() < 0.03, "mid pressure {p_mid:e} Pa vs B^2/(2 mu0) = {expected:e} Pa (rel {err:e})");
+    assert!(
+        err.abs() < 0.03,
+        "mid pressure {p_mid:e} Pa vs B^2/(2 mu0) = {expected:e} Pa (rel {err:e})"
+    );
 }
 
 /// A thin aluminium tube inside a long coil, with a crowbarred (step-like) current: the field
@@ -66,7 +73,13 @@ fn thin_shell_field_rises_with_diffusion_time() {
         0.0,
         0.0,
         coil(turns, 22.75e-3, 1.5e-3, 3.5e-3, pitch, Some(Split { radial: 1, axial: 1 })),
-        Some(tube(a_tube, wall, length, "aluminium_6061_t6", Some(Split { radial: 1, axial: 160 }))),
+        Some(tube(
+            a_tube,
+            wall,
+            length,
+            "aluminium_6061_t6",
+            Some(Split { radial: 1, axial: 160 }),
+        )),
     );
     case.bank.crowbar = Some(Crowbar { resistance: 0.0, inductance: 0.0 });
     let sigma = 1.0 / case.workpiece.as_ref().unwrap().material.resistivity;
@@ -89,7 +102,10 @@ fn thin_shell_field_rises_with_diffusion_time() {
     let peak = b_out.iter().fold(0.0f64, |m, x| m.max(x.abs()));
     let worst = (0..t.len()).map(|k| (b_in[k] - model[k]).abs()).fold(0.0, f64::max);
     eprintln!("thin shell: worst {:e} of peak", worst / peak);
-    assert!(worst < 0.03 * peak, "inner field vs thin-shell model: worst {worst:e} T of {peak:e} T");
+    assert!(
+        worst < 0.03 * peak,
+        "inner field vs thin-shell model: worst {worst:e} T of {peak:e} T"
+    );
     // And the field really is delayed: at t = τ/4 it is well below the outside field.
     let k = t.iter().position(|&x| x >= tau / 4.0).unwrap();
     assert!(b_in[k] < 0.5 * b_out[k], "B_in {} vs B_out {}", b_in[k], b_out[k]);

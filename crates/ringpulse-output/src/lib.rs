@@ -30,7 +30,8 @@ ringpulse is a design aid, not a safety assessment: follow local codes, the equi
 instructions and licensed practice.";
 
 /// One-line form of the caution, for file headers and summaries.
-pub const SAFETY_LINE: &str = "high-voltage capacitor banks are lethal; ringpulse is a design aid, not a \
+pub const SAFETY_LINE: &str =
+    "high-voltage capacitor banks are lethal; ringpulse is a design aid, not a \
 safety assessment: follow local codes, the equipment maker's instructions and licensed practice";
 
 /// SHA-256 of the case file bytes, as lowercase hex.
@@ -132,7 +133,8 @@ pub fn write_atomically(
     out_dir: &Path,
     write: impl FnOnce(&Path) -> Result<Vec<PathBuf>, OutputError>,
 ) -> Result<Vec<PathBuf>, OutputError> {
-    let name = out_dir.file_name().map_or_else(|| "out".into(), |n| n.to_string_lossy().into_owned());
+    let name =
+        out_dir.file_name().map_or_else(|| "out".into(), |n| n.to_string_lossy().into_owned());
     let parent = match out_dir.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
         _ => PathBuf::from("."),

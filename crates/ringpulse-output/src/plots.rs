@@ -20,7 +20,11 @@ static FONTS: Once = Once::new();
 fn register_fonts() {
     FONTS.call_once(|| {
         // ab_glyph needs the fonts registered before any text is drawn (SVG too).
-        let _ = plotters::style::register_font("sans-serif", FontStyle::Normal, dejavu::sans::regular());
+        let _ = plotters::style::register_font(
+            "sans-serif",
+            FontStyle::Normal,
+            dejavu::sans::regular(),
+        );
         let _ = plotters::style::register_font("sans-serif", FontStyle::Bold, dejavu::sans::bold());
     });
 }
@@ -57,7 +61,10 @@ fn range(values: impl Iterator<Item = f64>) -> (f64, f64) {
     (lo - pad, hi + pad)
 }
 
-fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel) -> Result<(), String> {
+fn draw_panel<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    panel: &Panel,
+) -> Result<(), String> {
     let xr = range(panel.series.iter().flat_map(|s| s.points.iter().map(|p| p.0)));
     let yr = range(panel.series.iter().flat_map(|s| s.points.iter().map(|p| p.1)));
     let mut chart = ChartBuilder::on(area)
@@ -83,7 +90,9 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel) 
             .draw_series(LineSeries::new(pts, color.stroke_width(2)))
             .map_err(|e| e.to_string())?
             .label(&s.label)
-            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], color.stroke_width(3)));
+            .legend(move |(x, y)| {
+                PathElement::new(vec![(x, y), (x + 24, y)], color.stroke_width(3))
+            });
     }
     if panel.series.len() > 1 {
         chart
@@ -97,7 +106,10 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel) 
     Ok(())
 }
 
-fn draw_figure<DB: DrawingBackend>(root: DrawingArea<DB, Shift>, panels: &[Panel]) -> Result<(), String> {
+fn draw_figure<DB: DrawingBackend>(
+    root: DrawingArea<DB, Shift>,
+    panels: &[Panel],
+) -> Result<(), String> {
     root.fill(&WHITE).map_err(|e| e.to_string())?;
     let areas = root.split_evenly((panels.len().max(1), 1));
     for (area, panel) in areas.iter().zip(panels) {
@@ -138,24 +150,28 @@ pub fn draw_all(dir: &Path, r: &RunResult) -> Result<Vec<PathBuf>, OutputError> 
             points: zip(&t.workpiece_current, 1e-3),
         });
     }
-    let mut files = figure(dir, "currents", &[
-        Panel {
-            title: "Currents".into(),
-            x_label: "time (µs)".into(),
-            y_label: "current (kA)".into(),
-            series: currents,
-        },
-        Panel {
-            title: "Capacitor voltage".into(),
-            x_label: "time (µs)".into(),
-            y_label: "voltage (kV)".into(),
-            series: vec![Series {
-                label: "capacitor voltage".into(),
-                color: RGBColor(44, 160, 44),
-                points: zip(&t.capacitor_voltage, 1e-3),
-            }],
-        },
-    ])?;
+    let mut files = figure(
+        dir,
+        "currents",
+        &[
+            Panel {
+                title: "Currents".into(),
+                x_label: "time (µs)".into(),
+                y_label: "current (kA)".into(),
+                series: currents,
+            },
+            Panel {
+                title: "Capacitor voltage".into(),
+                x_label: "time (µs)".into(),
+                y_label: "voltage (kV)".into(),
+                series: vec![Series {
+                    label: "capacitor voltage".into(),
+                    color: RGBColor(44, 160, 44),
+                    points: zip(&t.capacitor_voltage, 1e-3),
+                }],
+            },
+        ],
+    )?;
     let g = &r.rings;
     if g.z.is_empty() || g.time.is_empty() {
         return Ok(files);
@@ -171,19 +187,41 @@ pub fn draw_all(dir: &Path, r: &RunResult) -> Result<Vec<PathBuf>, OutputError> 
     }
     let profile: Vec<(f64, f64)> =
         g.z.iter().zip(&g.pressure[best_s]).map(|(z, p)| (z * 1e3, p * 1e-6)).collect();
-    files.extend(figure(dir, "pressure_profile", &[Panel {
-        title: format!("Magnetic pressure along the workpiece at t = {:.2} µs", g.time[best_s] * 1e6),
-        x_label: "z (mm)".into(),
-        y_label: "pressure (MPa)".into(),
-        series: vec![Series { label: "pressure".into(), color: RGBColor(148, 103, 189), points: profile }],
-    }])?);
+    files.extend(figure(
+        dir,
+        "pressure_profile",
+        &[Panel {
+            title: format!(
+                "Magnetic pressure along the workpiece at t = {:.2} µs",
+                g.time[best_s] * 1e6
+            ),
+            x_label: "z (mm)".into(),
+            y_label: "pressure (MPa)".into(),
+            series: vec![Series {
+                label: "pressure".into(),
+                color: RGBColor(148, 103, 189),
+                points: profile,
+            }],
+        }],
+    )?);
     let history: Vec<(f64, f64)> =
         g.time.iter().zip(&g.pressure).map(|(t, row)| (t * 1e6, row[best_ring] * 1e-6)).collect();
-    files.extend(figure(dir, "pressure_history", &[Panel {
-        title: format!("Magnetic pressure on ring {best_ring} (z = {:.2} mm)", g.z[best_ring] * 1e3),
-        x_label: "time (µs)".into(),
-        y_label: "pressure (MPa)".into(),
-        series: vec![Series { label: "pressure".into(), color: RGBColor(255, 127, 14), points: history }],
-    }])?);
+    files.extend(figure(
+        dir,
+        "pressure_history",
+        &[Panel {
+            title: format!(
+                "Magnetic pressure on ring {best_ring} (z = {:.2} mm)",
+                g.z[best_ring] * 1e3
+            ),
+            x_label: "time (µs)".into(),
+            y_label: "pressure (MPa)".into(),
+            series: vec![Series {
+                label: "pressure".into(),
+                color: RGBColor(255, 127, 14),
+                points: history,
+            }],
+        }],
+    )?);
     Ok(files)
 }

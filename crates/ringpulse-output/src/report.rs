@@ -56,14 +56,30 @@ pub fn format_report(meta: &RunMeta, r: &RunResult) -> String {
     out.push_str(&format!("ringpulse {}  case {}\n", meta.version, meta.case_path));
     out.push_str(&format!("  {}\n\n", meta.description));
     out.push_str("circuit\n");
-    row(&mut out, "peak coil current", &format!("{} at {}", eng(s.peak_coil_current, "A"), eng(s.time_of_peak_current, "s")));
-    row(&mut out, "first current zero", &s.first_current_zero.map_or("none in the run".into(), |t| eng(t, "s")));
-    row(&mut out, "ringing frequency", &format!(
-        "{} (estimated before the run: {})",
-        s.ringing_frequency.map_or("n/a".into(), |f| eng(f, "Hz")),
-        eng(s.estimated_frequency, "Hz")
-    ));
-    row(&mut out, "peak di/dt", &format!("{} ({})", eng(s.peak_di_dt, "A/s"), eng(s.peak_di_dt * 1e-6, "A/µs")));
+    row(
+        &mut out,
+        "peak coil current",
+        &format!("{} at {}", eng(s.peak_coil_current, "A"), eng(s.time_of_peak_current, "s")),
+    );
+    row(
+        &mut out,
+        "first current zero",
+        &s.first_current_zero.map_or("none in the run".into(), |t| eng(t, "s")),
+    );
+    row(
+        &mut out,
+        "ringing frequency",
+        &format!(
+            "{} (estimated before the run: {})",
+            s.ringing_frequency.map_or("n/a".into(), |f| eng(f, "Hz")),
+            eng(s.estimated_frequency, "Hz")
+        ),
+    );
+    row(
+        &mut out,
+        "peak di/dt",
+        &format!("{} ({})", eng(s.peak_di_dt, "A/s"), eng(s.peak_di_dt * 1e-6, "A/µs")),
+    );
     row(&mut out, "charge transferred", &eng(s.charge, "C"));
     row(&mut out, "action integral", &eng(s.action_integral, "A²s"));
     row(&mut out, "capacitor voltage reversal", &format!("{:.1} %", s.voltage_reversal_percent));
@@ -72,24 +88,36 @@ pub fn format_report(meta: &RunMeta, r: &RunResult) -> String {
     }
     out.push_str("coil\n");
     row(&mut out, "coil inductance (alone)", &eng(r.mesh.coil_inductance, "H"));
-    row(&mut out, "peak turn hoop stress", &format!(
-        "{} ({})",
-        eng(s.peak_coil_hoop_stress, "Pa"),
-        if s.peak_coil_hoop_stress >= 0.0 { "tension" } else { "compression" }
-    ));
+    row(
+        &mut out,
+        "peak turn hoop stress",
+        &format!(
+            "{} ({})",
+            eng(s.peak_coil_hoop_stress, "Pa"),
+            if s.peak_coil_hoop_stress >= 0.0 { "tension" } else { "compression" }
+        ),
+    );
     row(&mut out, "peak pressure on a turn", &eng(s.peak_coil_pressure, "Pa"));
-    row(&mut out, "hottest coil filament", &format!("{:.0} K (adiabatic estimate)", s.peak_coil_temperature));
+    row(
+        &mut out,
+        "hottest coil filament",
+        &format!("{:.0} K (adiabatic estimate)", s.peak_coil_temperature),
+    );
     if r.mesh.workpiece_filaments > 0 {
         out.push_str("workpiece\n");
         row(&mut out, "peak workpiece current", &eng(s.peak_workpiece_current, "A"));
         if let Some(p) = &s.peak_pressure {
-            row(&mut out, "peak magnetic pressure", &format!(
-                "{} on ring {} (z = {:.2} mm) at {}",
-                eng(p.value, "Pa"),
-                p.ring,
-                p.z * 1e3,
-                eng(p.time, "s")
-            ));
+            row(
+                &mut out,
+                "peak magnetic pressure",
+                &format!(
+                    "{} on ring {} (z = {:.2} mm) at {}",
+                    eng(p.value, "Pa"),
+                    p.ring,
+                    p.z * 1e3,
+                    eng(p.time, "s")
+                ),
+            );
         }
         row(&mut out, "peak net radial force", &eng(s.peak_radial_force, "N"));
         row(&mut out, "peak net axial force", &eng(s.peak_axial_force, "N"));
@@ -112,26 +140,52 @@ pub fn format_report(meta: &RunMeta, r: &RunResult) -> String {
     row(&mut out, "residual (solver error)", &format!("{:.2e} of stored", e.relative_residual));
     out.push_str("numerics\n");
     let m = &r.mesh;
-    row(&mut out, "filaments", &format!(
-        "coil {} ({} x {} per turn), workpiece {} ({} x {}), {} loops",
-        m.coil_filaments, m.coil_split[0], m.coil_split[1], m.workpiece_filaments, m.workpiece_split[0],
-        m.workpiece_split[1], m.loops
-    ));
-    row(&mut out, "skin depth", &format!(
-        "coil {}{}",
-        eng(m.coil_skin_depth, "m"),
-        m.workpiece_skin_depth.map_or(String::new(), |d| format!(", workpiece {}", eng(d, "m")))
-    ));
+    row(
+        &mut out,
+        "filaments",
+        &format!(
+            "coil {} ({} x {} per turn), workpiece {} ({} x {}), {} loops",
+            m.coil_filaments,
+            m.coil_split[0],
+            m.coil_split[1],
+            m.workpiece_filaments,
+            m.workpiece_split[0],
+            m.workpiece_split[1],
+            m.loops
+        ),
+    );
+    row(
+        &mut out,
+        "skin depth",
+        &format!(
+            "coil {}{}",
+            eng(m.coil_skin_depth, "m"),
+            m.workpiece_skin_depth
+                .map_or(String::new(), |d| format!(", workpiece {}", eng(d, "m")))
+        ),
+    );
     let st = &r.stats;
-    row(&mut out, "stepper", &format!(
-        "{} steps ({} rejected), {} evaluations, dt {} .. {}",
-        st.steps, st.rejected_steps, st.rhs_evaluations, eng(st.min_dt, "s"), eng(st.max_dt, "s")
-    ));
-    row(&mut out, "wall time", &format!(
-        "assembly {}, stepping {}",
-        eng(st.assembly_time, "s"),
-        eng(st.stepping_time, "s")
-    ));
+    row(
+        &mut out,
+        "stepper",
+        &format!(
+            "{} steps ({} rejected), {} evaluations, dt {} .. {}",
+            st.steps,
+            st.rejected_steps,
+            st.rhs_evaluations,
+            eng(st.min_dt, "s"),
+            eng(st.max_dt, "s")
+        ),
+    );
+    row(
+        &mut out,
+        "wall time",
+        &format!(
+            "assembly {}, stepping {}",
+            eng(st.assembly_time, "s"),
+            eng(st.stepping_time, "s")
+        ),
+    );
     if !r.warnings.is_empty() {
         out.push_str("warnings\n");
         for w in &r.warnings {

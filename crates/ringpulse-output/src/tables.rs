@@ -13,7 +13,8 @@ use serde_json::{json, Value};
 use crate::{io_err, OutputError, RunMeta, SAFETY_LINE};
 
 /// Header of timeseries.csv.
-pub const TIMESERIES_HEADER: &str = "time_s,coil_current_A,capacitor_voltage_V,workpiece_current_A,\
+pub const TIMESERIES_HEADER: &str =
+    "time_s,coil_current_A,capacitor_voltage_V,workpiece_current_A,\
 radial_force_N,axial_force_N,peak_pressure_Pa";
 
 /// Header of rings.csv.
@@ -65,7 +66,14 @@ pub fn write_rings(path: &Path, r: &RunResult) -> Result<PathBuf, OutputError> {
             body.push(',');
             push_row(
                 &mut body,
-                &[g.radius[ring], g.z[ring], current, density, g.pressure[s][ring], g.axial_force[s][ring]],
+                &[
+                    g.radius[ring],
+                    g.z[ring],
+                    current,
+                    density,
+                    g.pressure[s][ring],
+                    g.axial_force[s][ring],
+                ],
             );
         }
         if body.len() > 1 << 20 {
@@ -93,7 +101,11 @@ pub fn num(v: f64) -> String {
     if v.is_nan() {
         "nan".into()
     } else if v.is_infinite() {
-        if v > 0.0 { "inf".into() } else { "-inf".into() }
+        if v > 0.0 {
+            "inf".into()
+        } else {
+            "-inf".into()
+        }
     } else {
         format!("{v:e}")
     }

@@ -1,6 +1,7 @@
 //! The `ringpulse` command line: read a case, run the engine, write results, print a report.
 //!
-//! Exit codes (also in README.md): 0 success; 2 invalid input (command line or case file);
+//! Exit codes (also in README.md): 0 success; 2 invalid input (command line, case file, or a
+//! discretization the engine refuses);
 //! 3 a ratings check failed (reserved for `check`); 4 the simulation failed; 5 the output could
 //! not be written. Errors go to standard error as `error: ...` with one line per problem.
 
@@ -10,6 +11,7 @@ use std::process::ExitCode;
 use anyhow::Context;
 use clap::{Parser, Subcommand};
 use ringpulse_case::{load_case, Case, Resolution};
+use ringpulse_engine::EngineError;
 use ringpulse_output::{case_hash, format_report, write_run, RunMeta, WriteOptions, SAFETY_NOTICE};
 
 /// Exit code: invalid input.
@@ -107,8 +109,9 @@ fn read_case(path: &Path) -> Result<(Case, Vec<String>, Vec<u8>), Failure> {
     let bytes = std::fs::read(path)
         .with_context(|| format!("cannot read case file \"{}\"", path.display()))
         .map_err(|e| fail(EXIT_INPUT, e))?;
-    let text = String::from_utf8(bytes.clone())
-        .map_err(|_| fail(EXIT_INPUT, anyhow::anyhow!("case file \"{}\" is not UTF-8 text", path.display())))?;
+    let text = String::from_utf8(bytes.clone()).map_err(|_| {
+        fail(EXIT_INPUT, anyhow::anyhow!("case file \"{}\" is not UTF-8 text", path.display()))
+    })?;
     let (case, warnings) =
         load_case(&text, &path.display().to_string()).map_err(|e| fail(EXIT_INPUT, e))?;
     Ok((case, warnings, bytes))
@@ -142,7 +145,14 @@ fn run(
         eprintln!("ringpulse {}: {}", env!("CARGO_PKG_VERSION"), case.description);
         eprintln!("caution: high-voltage capacitor banks are lethal; this is a design aid, not a safety assessment");
     }
-    let mut result = ringpulse_engine::run(&case).map_err(|e| fail(EXIT_SIMULATION, e))?;
+    let mut result = ringpulse_engine::run(&case).map_err(|e| {
+        // A split the engine refuses is a problem of the input; a failing stepper is not.
+        let code = match e {
+            EngineError::Solver { .. } => EXIT_SIMULATION,
+            _ => EXIT_INPUT,
+        };
+        fail(code, e)
+    })?;
     let mut warnings = case_warnings;
     warnings.append(&mut result.warnings);
     result.warnings = warnings;

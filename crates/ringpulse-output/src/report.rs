@@ -26,22 +26,25 @@ pub fn eng(value: f64, unit: &str) -> String {
         (12, "T"),
         (15, "P"),
     ];
-    let exp3 = ((value.abs().log10() / 3.0).floor() as i32 * 3).clamp(-15, 15);
-    let mut scaled = value / 10f64.powi(exp3);
-    let mut exp = exp3;
-    // Rounding to 4 digits can reach 1000: move up one prefix then.
-    if format!("{:.2}", scaled.abs()).starts_with("1000") && exp < 15 {
+    let digits_for = |x: f64| {
+        if x.abs() >= 100.0 {
+            1
+        } else if x.abs() >= 10.0 {
+            2
+        } else {
+            3
+        }
+    };
+    let mut exp = ((value.abs().log10() / 3.0).floor() as i32 * 3).clamp(-15, 15);
+    let mut scaled = value / 10f64.powi(exp);
+    // Rounding to 4 significant digits can reach 1000: move up one prefix then.
+    let shown: f64 = format!("{:.*}", digits_for(scaled), scaled.abs()).parse().unwrap_or(0.0);
+    if shown >= 1000.0 && exp < 15 {
         exp += 3;
         scaled = value / 10f64.powi(exp);
     }
     let prefix = PREFIXES.iter().find(|(e, _)| *e == exp).map_or("", |(_, p)| p);
-    let digits = if scaled.abs() >= 100.0 {
-        1
-    } else if scaled.abs() >= 10.0 {
-        2
-    } else {
-        3
-    };
+    let digits = digits_for(scaled);
     format!("{scaled:.digits$} {prefix}{unit}")
 }
 

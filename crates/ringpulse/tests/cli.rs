@@ -35,8 +35,11 @@ fn leftovers(dir: &Path) -> Vec<String> {
 #[test]
 fn golden_bad_inputs() {
     let root = repo().join("tests/golden/err");
-    let mut dirs: Vec<PathBuf> =
-        std::fs::read_dir(&root).unwrap().map(|e| e.unwrap().path()).filter(|p| p.is_dir()).collect();
+    let mut dirs: Vec<PathBuf> = std::fs::read_dir(&root)
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.is_dir())
+        .collect();
     dirs.sort();
     assert!(dirs.len() >= 8, "golden error cases missing in {}", root.display());
     let update = std::env::var_os("UPDATE_GOLDEN").is_some();
@@ -61,7 +64,10 @@ fn golden_bad_inputs() {
         assert!(leftovers(tmp.path()).is_empty(), "{name}: left {:?}", leftovers(tmp.path()));
         // One line per problem, each naming a field path (or the document).
         for line in stderr.lines().skip(1) {
-            assert!(line.starts_with("  ") && line.contains(": "), "{name}: line without a field: {line}");
+            assert!(
+                line.starts_with("  ") && line.contains(": "),
+                "{name}: line without a field: {line}"
+            );
         }
         if !stderr.starts_with("error: invalid case") {
             assert!(stderr.lines().count() == 1, "{name}: one clear error line, got {stderr}");
@@ -94,7 +100,8 @@ fn run_writes_results_and_summary_parses() {
     }
     let png = std::fs::read(res.join("currents.png")).unwrap();
     assert_eq!(&png[..8], b"\x89PNG\r\n\x1a\n");
-    let summary: Value = serde_json::from_str(&std::fs::read_to_string(res.join("summary.json")).unwrap()).unwrap();
+    let summary: Value =
+        serde_json::from_str(&std::fs::read_to_string(res.join("summary.json")).unwrap()).unwrap();
     let peak = summary["summary"]["peak_coil_current_A"].as_f64().unwrap();
     assert!(peak > 1e4 && peak < 1e6, "peak {peak}");
     assert_eq!(summary["case_sha256"].as_str().unwrap().len(), 64);
@@ -129,7 +136,10 @@ fn new_writes_a_valid_example() {
     let again = run_in(tmp.path(), &["new", "example.json"]);
     assert_eq!(again.status.code(), Some(2), "refuses to overwrite");
     assert!(String::from_utf8_lossy(&again.stderr).contains("--force"));
-    let run = run_in(tmp.path(), &["run", "example.json", "--out", "o", "--coarse", "--no-plots", "--quiet"]);
+    let run = run_in(
+        tmp.path(),
+        &["run", "example.json", "--out", "o", "--coarse", "--no-plots", "--quiet"],
+    );
     assert!(run.status.success(), "{}", String::from_utf8_lossy(&run.stderr));
     assert!(tmp.path().join("o/summary.json").exists());
     assert!(!tmp.path().join("o/currents.png").exists(), "--no-plots");
@@ -140,12 +150,15 @@ fn command_line_errors_exit_2() {
     let tmp = tempfile::tempdir().unwrap();
     let missing = run_in(tmp.path(), &["run", "nope.json"]);
     assert_eq!(missing.status.code(), Some(2));
-    assert!(String::from_utf8_lossy(&missing.stderr).contains("cannot read case file \"nope.json\""));
+    assert!(
+        String::from_utf8_lossy(&missing.stderr).contains("cannot read case file \"nope.json\"")
+    );
     let unknown = run_in(tmp.path(), &["fly"]);
     assert_eq!(unknown.status.code(), Some(2));
     let case = repo().join("cases/tube_expansion_6turn.json");
     let refine = run_in(tmp.path(), &["run", case.to_str().unwrap(), "--refine=-1"]);
     assert_eq!(refine.status.code(), Some(2));
-    assert!(String::from_utf8_lossy(&refine.stderr).contains("--refine: expected a factor in (0, 16], got -1"));
+    assert!(String::from_utf8_lossy(&refine.stderr)
+        .contains("--refine: expected a factor in (0, 16], got -1"));
     assert!(leftovers(tmp.path()).is_empty());
 }

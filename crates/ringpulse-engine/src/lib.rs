@@ -3,7 +3,7 @@
 //! Data flow: [`mesh`] splits coil turns and workpiece wall into filament rings;
 //! [`network`] assembles their inductance matrix, force factors and the loop formulation of
 //! bank, turns in series and shorted workpiece rings; [`transient`] integrates flux linkages
-//! and the capacitor voltage; [`run`] ties it together, samples the result on a uniform grid
+//! and the capacitor voltage; [`mod@run`] ties it together, samples the result on a uniform grid
 //! and computes the summary ([`results`]). Everything runs in memory: this crate writes no
 //! files and prints nothing.
 

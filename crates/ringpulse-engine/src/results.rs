@@ -78,6 +78,16 @@ pub struct RingTraces {
     pub pressure: Vec<Vec<f64>>,
     /// Net axial force on each ring, in newtons, positive towards +z: `axial_force[sample][ring]`.
     pub axial_force: Vec<Vec<f64>>,
+    /// Mean radius of each ring at each sample, in metres (motion runs; empty otherwise).
+    pub radius_history: Vec<Vec<f64>>,
+    /// Radial velocity of each ring, in m/s (motion runs).
+    pub velocity: Vec<Vec<f64>>,
+    /// Hoop strain ln(r/r0) of each ring (motion runs).
+    pub strain: Vec<Vec<f64>>,
+    /// Mean temperature of each ring, in kelvin (motion runs).
+    pub temperature: Vec<Vec<f64>>,
+    /// Axial position of each ring's centre including the rigid shift, in metres (motion runs).
+    pub z_history: Vec<Vec<f64>>,
 }
 
 /// Scalar results of a run. JSON keys carry their unit.
@@ -140,6 +150,8 @@ pub struct Summary {
     pub peak_workpiece_temperature: Option<f64>,
     /// Energy account at the end of the run.
     pub energy: EnergyAccount,
+    /// Results of the workpiece motion (`None` when motion is off).
+    pub motion: Option<MotionSummary>,
     /// End time of the transient, in seconds.
     #[serde(rename = "end_time_s")]
     pub end_time: f64,
@@ -181,6 +193,18 @@ pub struct EnergyAccount {
     /// Dissipated in the crowbar path, in joules.
     #[serde(rename = "crowbar_J")]
     pub crowbar: f64,
+    /// Kinetic energy of the workpiece at the end, in joules.
+    #[serde(rename = "kinetic_J")]
+    pub kinetic: f64,
+    /// Elastic energy stored in the workpiece at the end, in joules.
+    #[serde(rename = "elastic_J")]
+    pub elastic: f64,
+    /// Plastic work done on the workpiece, in joules.
+    #[serde(rename = "plastic_work_J")]
+    pub plastic: f64,
+    /// Kinetic energy absorbed by the die or mandrel at impacts, in joules.
+    #[serde(rename = "die_impact_J")]
+    pub impact: f64,
     /// Still stored in the magnetic field at the end, in joules.
     #[serde(rename = "magnetic_J")]
     pub magnetic: f64,
@@ -189,6 +213,50 @@ pub struct EnergyAccount {
     pub capacitor: f64,
     /// initial minus all of the above, as a fraction of initial.
     pub relative_residual: f64,
+}
+
+/// What the workpiece did (motion runs).
+#[derive(Debug, Clone, Serialize, Default)]
+pub struct MotionSummary {
+    /// Largest radial displacement of any ring (signed: positive outward), in metres.
+    #[serde(rename = "max_displacement_m")]
+    pub max_displacement: f64,
+    /// Axial ring centre where the largest displacement occurred, in metres.
+    #[serde(rename = "max_displacement_z_m")]
+    pub max_displacement_z: f64,
+    /// Largest radial speed of any ring, in m/s (signed: positive outward).
+    #[serde(rename = "max_velocity_m_per_s")]
+    pub max_velocity: f64,
+    /// Rigid axial displacement of the workpiece at the end, in metres.
+    #[serde(rename = "axial_displacement_m")]
+    pub axial_displacement: f64,
+    /// Rigid axial velocity of the workpiece at the end, in m/s.
+    #[serde(rename = "axial_velocity_m_per_s")]
+    pub axial_velocity: f64,
+    /// Time of the first impact on the die or mandrel, in seconds.
+    #[serde(rename = "first_impact_time_s")]
+    pub first_impact_time: Option<f64>,
+    /// Largest impact speed on the die or mandrel, in m/s.
+    #[serde(rename = "max_impact_velocity_m_per_s")]
+    pub max_impact_velocity: Option<f64>,
+    /// Rings that reached the die or mandrel.
+    pub rings_at_stop: usize,
+    /// Impacts: (ring, time in s, speed in m/s).
+    pub impacts: Vec<(usize, f64, f64)>,
+    /// Smallest and largest final hoop strain ln(r/r0) over the rings.
+    pub final_strain_range: [f64; 2],
+    /// Largest equivalent plastic strain of any ring at the end.
+    pub max_plastic_strain: f64,
+    /// Largest hoop strain rate of any ring, in 1/s.
+    #[serde(rename = "max_strain_rate_per_s")]
+    pub max_strain_rate: f64,
+    /// Plastic work over the bank energy 0.5 C V0^2.
+    pub efficiency: f64,
+    /// Largest workpiece speed at the end of the run, in m/s (non-zero: still moving).
+    #[serde(rename = "final_max_speed_m_per_s")]
+    pub final_max_speed: f64,
+    /// Why the run stopped early, if it did (e.g. the workpiece reached the coil).
+    pub stopped: Option<String>,
 }
 
 /// Statistics of the adaptive stepper, summed over all segments (a crowbar splits the run).

@@ -495,6 +495,7 @@ pub fn run_with_probes(
         magnetic: 0.5 * psi_end.dot(&x_end),
         capacitor: 0.5 * bank.capacitance * v_end * v_end,
         relative_residual: 0.0,
+        ..EnergyAccount::default()
     };
     let accounted = energy.bank_and_feeder
         + energy.coil
@@ -552,6 +553,7 @@ pub fn run_with_probes(
         peak_radial_force: max_abs(&traces.radial_force),
         peak_axial_force: max_abs(&traces.axial_force),
         energy,
+        motion: None,
         end_time: t_end,
     };
 
@@ -598,7 +600,7 @@ pub fn run_with_probes(
     })
 }
 
-fn collect_warnings(
+pub(crate) fn collect_warnings(
     case: &Case,
     s: &Summary,
     traces: &Traces,
@@ -662,11 +664,11 @@ pub fn heating_temperature(rho0: f64, alpha: f64, heat_capacity: f64, g: f64, t0
     t0 + ((g * rho0 * alpha / heat_capacity).exp() - 1.0) / alpha
 }
 
-fn argmax_abs(v: &[f64]) -> usize {
+pub(crate) fn argmax_abs(v: &[f64]) -> usize {
     (0..v.len()).fold(0, |b, k| if v[k].abs() > v[b].abs() { k } else { b })
 }
 
-fn max_abs(v: &[f64]) -> f64 {
+pub(crate) fn max_abs(v: &[f64]) -> f64 {
     v.iter().fold(0.0, |m: f64, x| m.max(x.abs()))
 }
 

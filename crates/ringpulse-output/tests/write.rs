@@ -19,6 +19,7 @@ fn synthetic(n: usize) -> RunResult {
         current: (0..n.div_ceil(10)).map(|k| vec![k as f64, 2.0 * k as f64, k as f64]).collect(),
         pressure: (0..n.div_ceil(10)).map(|k| vec![1e6 * k as f64, 3e6 * k as f64, 1e6]).collect(),
         axial_force: (0..n.div_ceil(10)).map(|_| vec![0.0; 3]).collect(),
+        ..RingTraces::default()
     };
     RunResult {
         traces: Traces {

@@ -14,7 +14,25 @@ fn main() {
             ringpulse_case::Resolution::SkinDepth { cell_over_skin_depth: f };
     }
     let t = std::time::Instant::now();
-    match ringpulse_engine::run(&case) {
+    let outcome = if std::env::var_os("MOTION").is_some() {
+        let stop_radius = std::env::var("STOP").ok().and_then(|s| s.parse::<f64>().ok());
+        ringpulse_engine::prepare(&case).and_then(|p| {
+            ringpulse_engine::run_motion(
+                &case,
+                p,
+                &ringpulse_engine::MotionOptions {
+                    stop_radius,
+                    flow: std::env::var("FLOW")
+                        .ok()
+                        .and_then(|s| s.parse::<f64>().ok())
+                        .map(|stress| ringpulse_engine::flow::FlowLaw::Constant { stress }),
+                },
+            )
+        })
+    } else {
+        ringpulse_engine::run(&case)
+    };
+    match outcome {
         Ok(r) => {
             println!("{:#?}\n{:#?}\n{:#?}\nwarnings {:?}", r.summary, r.mesh, r.stats, r.warnings);
             println!("wall {:.3} s", t.elapsed().as_secs_f64());

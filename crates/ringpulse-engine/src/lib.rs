@@ -7,13 +7,17 @@
 //! and computes the summary ([`results`]). Everything runs in memory: this crate writes no
 //! files and prints nothing.
 
+pub mod flow;
 pub mod mesh;
+pub mod motion;
+pub mod motion_run;
 pub mod network;
 pub mod reference;
 pub mod results;
 pub mod run;
 pub mod transient;
 
+pub use motion_run::{flow_law_for, run_motion, MotionOptions};
 pub use results::*;
 pub use run::{
     estimate_frequency, prepare, run, run_prepared, run_with_probes, FrequencyEstimate, Prepared,

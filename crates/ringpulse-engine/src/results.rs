@@ -257,6 +257,12 @@ pub struct MotionSummary {
     pub final_max_speed: f64,
     /// Why the run stopped early, if it did (e.g. the workpiece reached the coil).
     pub stopped: Option<String>,
+    /// Initial wall of the workpiece, in metres.
+    #[serde(rename = "initial_wall_m")]
+    pub initial_wall: f64,
+    /// Radius of the die or mandrel, in metres, if there is one.
+    #[serde(rename = "stop_radius_m")]
+    pub stop_radius: Option<f64>,
 }
 
 /// Statistics of the adaptive stepper, summed over all segments (a crowbar splits the run).

@@ -10,6 +10,7 @@ use std::path::{Path, PathBuf};
 use ringpulse_engine::RunResult;
 use sha2::{Digest, Sha256};
 
+pub mod motion_out;
 pub mod plots;
 pub mod report;
 pub mod tables;
@@ -99,7 +100,8 @@ pub(crate) fn io_err(path: &Path) -> impl FnOnce(std::io::Error) -> OutputError 
     move |source| OutputError::Io { path: path.to_path_buf(), source }
 }
 
-/// Writes timeseries.csv, rings.csv, summary.json and the plots of a run into `out_dir`.
+/// Writes timeseries.csv, rings.csv, summary.json and the plots of a run into `out_dir`;
+/// with motion also motion.csv, profile.csv and the motion and profile plots.
 ///
 /// All files are first written into `<out_dir>.partial-<pid>` beside it and moved into
 /// `out_dir` (created if needed; files of the same names are replaced, others left alone)
@@ -119,8 +121,21 @@ pub fn write_run(
         if !result.rings.z.is_empty() {
             files.push(tables::write_rings(&tmp.join("rings.csv"), result)?);
         }
+        let motion = result.summary.motion.as_ref().filter(|_| motion_out::has_motion(result));
+        if let Some(m) = motion {
+            files.push(motion_out::write_motion_table(&tmp.join("motion.csv"), result)?);
+            files.push(motion_out::write_profile(
+                &tmp.join("profile.csv"),
+                result,
+                m.initial_wall,
+                m.stop_radius,
+            )?);
+        }
         if opts.plots {
             files.extend(plots::draw_all(tmp, result)?);
+            if let Some(m) = motion {
+                files.extend(motion_out::draw_motion(tmp, result, m.initial_wall, m.stop_radius)?);
+            }
         }
         Ok(files)
     })

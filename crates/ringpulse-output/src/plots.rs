@@ -30,18 +30,18 @@ fn register_fonts() {
 }
 
 /// One curve: legend label, colour and points.
-struct Series {
-    label: String,
-    color: RGBColor,
-    points: Vec<(f64, f64)>,
+pub(crate) struct Series {
+    pub(crate) label: String,
+    pub(crate) color: RGBColor,
+    pub(crate) points: Vec<(f64, f64)>,
 }
 
 /// One panel: title, axis labels and curves.
-struct Panel {
-    title: String,
-    x_label: String,
-    y_label: String,
-    series: Vec<Series>,
+pub(crate) struct Panel {
+    pub(crate) title: String,
+    pub(crate) x_label: String,
+    pub(crate) y_label: String,
+    pub(crate) series: Vec<Series>,
 }
 
 fn range(values: impl Iterator<Item = f64>) -> (f64, f64) {
@@ -119,7 +119,11 @@ fn draw_figure<DB: DrawingBackend>(
 }
 
 /// Draws `panels` stacked vertically into `<dir>/<stem>.png` and `.svg`.
-fn figure(dir: &Path, stem: &str, panels: &[Panel]) -> Result<Vec<PathBuf>, OutputError> {
+pub(crate) fn figure(
+    dir: &Path,
+    stem: &str,
+    panels: &[Panel],
+) -> Result<Vec<PathBuf>, OutputError> {
     register_fonts();
     let png = dir.join(format!("{stem}.png"));
     let svg = dir.join(format!("{stem}.svg"));

@@ -1,0 +1,842 @@
+//! The moving workpiece: coupled electromechanics, flow stress, Joule and plastic heating, die
+//! contact.
+//!
+//! Each axial workpiece ring has a mean radius r(t) and radial velocity; all its radial layers
+//! move with it and its wall thins by volume constancy (h = h0 r0 / r, axial length fixed).
+//! The whole workpiece may also translate along z as a rigid body. The equation of motion of
+//! ring q (thin ring, hoop stress; docs/theory.md, "Motion") is
+//!
+//! ```text
+//! m_q r̈_q = F_q − 2π A_q σ_q,      F_q = ½ iᵀ (∂L/∂r_q) i
+//! ```
+//!
+//! where F_q is the exact derivative of the inductance matrix actually used, including the
+//! layer positions and the thickness change, so the energy account closes. Flux linkages stay
+//! the circuit state; the inductance matrix is rebuilt from the current geometry at every
+//! right-hand-side evaluation. Only workpiece rows change: the coil block of the loop matrix is
+//! constant and is inverted once, the workpiece is eliminated through its Schur complement.
+//!
+//! Every filament carries its temperature: Joule heating with a linear resistivity law, plus
+//! Taylor–Quinney plastic heating in the workpiece; resistances follow temperature and
+//! geometry.
+
+use std::cell::RefCell;
+
+use crate::flow::{hoop_stress_rate, FlowLaw, TAYLOR_QUINNEY};
+use nalgebra::{Cholesky, DMatrix, DVector, Dyn};
+use ode_solvers::continuous_output_model::ContinuousOutputModel;
+use ode_solvers::{Dopri5, OutputType, System};
+use ringpulse_physics::{filament, inductance};
+
+use crate::mesh::{Mesh, Part};
+use crate::network::{invert_spd, project, LoopColumn, Network};
+use crate::transient::{slot, Circuit, Scales, StepperSettings};
+use crate::EngineError;
+
+/// Mechanical properties of the workpiece used by the motion model.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct WorkpieceMechanics {
+    /// Mass density, in kg/m³.
+    pub density: f64,
+    /// Specific heat, in J/(kg K).
+    pub specific_heat: f64,
+    /// Young's modulus, in Pa.
+    pub youngs_modulus: f64,
+    /// Flow stress law.
+    pub flow: FlowLaw,
+}
+
+/// A rigid stop for the workpiece rings.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Stop {
+    /// Expansion into a die: a ring stops when its outer surface reaches this radius, in metres.
+    Die(f64),
+    /// Compression onto a mandrel: a ring stops when its inner surface reaches this radius, in
+    /// metres.
+    Mandrel(f64),
+}
+
+/// Per-ring constant data.
+#[derive(Debug, Clone)]
+struct Ring {
+    /// Initial mean radius, in metres.
+    r0: f64,
+    /// Initial wall, in metres.
+    h0: f64,
+    /// Axial length, in metres.
+    dz: f64,
+    /// Initial axial centre, in metres.
+    z0: f64,
+    /// Mass, in kilograms.
+    mass: f64,
+    /// Initial cross-section area (wall × length), in square metres.
+    area0: f64,
+    /// Workpiece filament indices (0-based within the workpiece) of its layers, inner first.
+    filaments: Vec<usize>,
+}
+
+/// Constant data of the moving network.
+pub struct MovingNetwork {
+    /// The network at the initial geometry (coil block, loops, initial matrices).
+    pub base: Network,
+    n_coil_loops: usize,
+    coil_loops: Vec<LoopColumn>,
+    a_inv: DMatrix<f64>,
+    rings: Vec<Ring>,
+    /// Coil-coil force factors ∂M/∂r for coil rows (constant), n_c × n_c.
+    grad_r_cc: DMatrix<f64>,
+    mech: WorkpieceMechanics,
+    coil_heat_capacity: f64,
+    coil_alpha: f64,
+    work_alpha: f64,
+    t_initial: f64,
+    stop: Option<Stop>,
+    /// Radius beyond which a ring would touch the coil (inner limit for expansion, outer for
+    /// compression), as (limit, coil is inside).
+    coil_limit: Option<(f64, bool)>,
+    total_mass: f64,
+}
+
+/// Layout of the state vector after the flux linkages.
+#[derive(Debug, Clone, Copy)]
+pub struct Layout {
+    /// Number of loops.
+    pub nl: usize,
+    /// Offset of the mechanical block.
+    pub mech: usize,
+    /// Offset of the per-ring block (4 entries a ring).
+    pub rings: usize,
+    /// Offset of the filament temperatures.
+    pub temps: usize,
+    /// Total length.
+    pub len: usize,
+}
+
+/// Scales of the mechanical part of the state.
+#[derive(Debug, Clone, Copy)]
+pub struct MechScales {
+    /// Length scale, in metres.
+    pub length: f64,
+    /// Velocity scale, in m/s.
+    pub velocity: f64,
+    /// Temperature scale, in kelvin.
+    pub temperature: f64,
+}
+
+/// Mechanical slots.
+pub mod mslot {
+    /// Work done by the magnetic forces on the workpiece, ∫ F·v dt.
+    pub const W_MECH: usize = 0;
+    /// Internal work of the hoop stress, ∫ σ ε̇ V dt (elastic energy plus plastic work).
+    pub const W_INTERNAL: usize = 1;
+    /// Rigid axial shift.
+    pub const Z: usize = 2;
+    /// Rigid axial velocity.
+    pub const VZ: usize = 3;
+    /// Kinetic energy lost at die impacts.
+    pub const W_IMPACT: usize = 4;
+    /// Number of slots.
+    pub const COUNT: usize = 5;
+}
+
+/// Everything computed from one state.
+#[derive(Debug, Clone, Default)]
+pub struct Evaluation {
+    /// Loop currents, in amperes.
+    pub x: DVector<f64>,
+    /// Filament currents, in amperes.
+    pub i_f: DVector<f64>,
+    /// Filament resistances, in ohms.
+    pub r_f: DVector<f64>,
+    /// Generalised radial force on each ring, in newtons.
+    pub ring_force: Vec<f64>,
+    /// Axial force on each ring, in newtons.
+    pub ring_axial_force: Vec<f64>,
+    /// Hoop stress of each ring, in pascals.
+    pub ring_stress: Vec<f64>,
+    /// Plastic strain rate of each ring, in 1/s.
+    pub ring_plastic_rate: Vec<f64>,
+    /// Mean radius of each ring, in metres.
+    pub ring_radius: Vec<f64>,
+    /// Wall of each ring, in metres.
+    pub ring_wall: Vec<f64>,
+    /// Radial force on each coil turn, in newtons.
+    pub turn_force: Vec<f64>,
+    /// Rigid axial force on the workpiece, in newtons.
+    pub axial_force: f64,
+}
+
+impl MovingNetwork {
+    /// Prepares the moving network from the initial one.
+    pub fn new(
+        base: Network,
+        tube_initial_wall: f64,
+        mech: WorkpieceMechanics,
+        coil_material: &ringpulse_case::Material,
+        work_material: &ringpulse_case::Material,
+        t_initial: f64,
+        stop: Option<Stop>,
+        coil_limit: Option<(f64, bool)>,
+    ) -> Result<MovingNetwork, EngineError> {
+        let mesh = &base.mesh;
+        let w0 = mesh.workpiece_start();
+        let n_coil_loops =
+            base.loops.iter().take_while(|col| col.iter().all(|&(f, _)| f < w0)).count();
+        let coil_loops: Vec<LoopColumn> = base.loops[..n_coil_loops].to_vec();
+        let l_cc = base.l_filaments.view((0, 0), (w0, w0)).into_owned();
+        let mut a = project(&l_cc, &coil_loops);
+        a[(0, 0)] += base.external_inductance;
+        let a_inv = invert_spd(&a).ok_or(EngineError::IndefiniteInductance {
+            conductor: "the coil (its own block)".into(),
+        })?;
+        let split = mesh.workpiece_split.unwrap_or(ringpulse_case::Split { radial: 1, axial: 0 });
+        let mut rings: Vec<Ring> = Vec::with_capacity(split.axial);
+        for (k, f) in mesh.filaments[w0..].iter().enumerate() {
+            if let Part::Workpiece { ring, layer } = f.part {
+                if layer == 0 {
+                    let r0 = f.r - f.dr / 2.0 + tube_initial_wall / 2.0;
+                    let area0 = tube_initial_wall * f.dz;
+                    rings.push(Ring {
+                        r0,
+                        h0: tube_initial_wall,
+                        dz: f.dz,
+                        z0: f.z,
+                        mass: mech.density * 2.0 * std::f64::consts::PI * r0 * area0,
+                        area0,
+                        filaments: Vec::with_capacity(split.radial),
+                    });
+                }
+                if let Some(r) = rings.get_mut(ring) {
+                    r.filaments.push(k);
+                }
+            }
+        }
+        let grad_r_cc = base.grad_r.view((0, 0), (w0, w0)).into_owned();
+        let total_mass = rings.iter().map(|r| r.mass).sum();
+        Ok(MovingNetwork {
+            n_coil_loops,
+            coil_loops,
+            a_inv,
+            rings,
+            grad_r_cc,
+            mech,
+            coil_heat_capacity: coil_material.density * coil_material.specific_heat,
+            coil_alpha: coil_material.temperature_coefficient,
+            work_alpha: work_material.temperature_coefficient,
+            t_initial,
+            stop,
+            coil_limit,
+            total_mass,
+            base,
+        })
+    }
+
+    /// Number of workpiece rings.
+    pub fn n_rings(&self) -> usize {
+        self.rings.len()
+    }
+
+    /// The state layout.
+    pub fn layout(&self) -> Layout {
+        let nl = self.base.n_loops();
+        let mech = nl + slot::COUNT;
+        let rings = mech + mslot::COUNT;
+        let temps = rings + 4 * self.rings.len();
+        Layout { nl, mech, rings, temps, len: temps + self.base.mesh.filaments.len() }
+    }
+
+    /// Initial mean radius of ring q, in metres.
+    pub fn ring_r0(&self, q: usize) -> f64 {
+        self.rings[q].r0
+    }
+
+    /// Initial axial centre of ring q, in metres.
+    pub fn ring_z0(&self, q: usize) -> f64 {
+        self.rings[q].z0
+    }
+
+    /// Axial length of ring q, in metres.
+    pub fn ring_dz(&self, q: usize) -> f64 {
+        self.rings[q].dz
+    }
+
+    /// Mass of ring q, in kilograms.
+    pub fn ring_mass(&self, q: usize) -> f64 {
+        self.rings[q].mass
+    }
+
+    /// Total workpiece mass, in kilograms.
+    pub fn total_mass(&self) -> f64 {
+        self.total_mass
+    }
+
+    /// Volume of ring q (constant), in cubic metres.
+    pub fn ring_volume(&self, q: usize) -> f64 {
+        2.0 * std::f64::consts::PI * self.rings[q].r0 * self.rings[q].area0
+    }
+
+    /// The rigid stop, if any.
+    pub fn stop(&self) -> Option<Stop> {
+        self.stop
+    }
+
+    /// The radius at which ring q touches the coil, if the coil is radially on one side.
+    pub fn coil_limit(&self) -> Option<(f64, bool)> {
+        self.coil_limit
+    }
+
+    /// Young's modulus of the workpiece, in Pa.
+    pub fn youngs_modulus(&self) -> f64 {
+        self.mech.youngs_modulus
+    }
+
+    /// Replaces the constant coil block inverse after extra inductance in the bank loop.
+    pub fn add_bank_loop_inductance(&mut self, extra: f64) -> Result<(), EngineError> {
+        if extra == 0.0 {
+            return Ok(());
+        }
+        let w0 = self.base.mesh.workpiece_start();
+        let l_cc = self.base.l_filaments.view((0, 0), (w0, w0)).into_owned();
+        self.base.external_inductance += extra;
+        let mut a = project(&l_cc, &self.coil_loops);
+        a[(0, 0)] += self.base.external_inductance;
+        self.a_inv = invert_spd(&a).ok_or(EngineError::IndefiniteInductance {
+            conductor: "the coil (its own block)".into(),
+        })?;
+        Ok(())
+    }
+
+    /// Evaluates currents, resistances, forces and stresses of a scaled state.
+    pub fn evaluate(
+        &self,
+        y: &DVector<f64>,
+        scales: &Scales,
+        ms: &MechScales,
+    ) -> Result<Evaluation, EngineError> {
+        let lay = self.layout();
+        let mesh: &Mesh = &self.base.mesh;
+        let n = mesh.filaments.len();
+        let w0 = mesh.workpiece_start();
+        let nw = n - w0;
+        let nr = self.rings.len();
+        let z_shift = y[lay.mech + mslot::Z] * ms.length;
+        // Geometry of the workpiece filaments.
+        let mut wr = vec![0.0; nw];
+        let mut wdr = vec![0.0; nw];
+        let mut wz = vec![0.0; nw];
+        let mut ring_radius = vec![0.0; nr];
+        let mut ring_wall = vec![0.0; nr];
+        // ∂r_f/∂r_q and ∂dr_f/∂r_q of each workpiece filament.
+        let mut drf = vec![0.0; nw];
+        let mut ddrf = vec![0.0; nw];
+        for (q, ring) in self.rings.iter().enumerate() {
+            let r = ring.r0 + y[lay.rings + 4 * q] * ms.length;
+            let h = ring.h0 * ring.r0 / r;
+            ring_radius[q] = r;
+            ring_wall[q] = h;
+            let layers = ring.filaments.len() as f64;
+            for (j, &k) in ring.filaments.iter().enumerate() {
+                let c = (j as f64 + 0.5) / layers - 0.5;
+                wr[k] = r + c * h;
+                wdr[k] = h / layers;
+                wz[k] = ring.z0 + z_shift;
+                drf[k] = 1.0 - c * h / r;
+                ddrf[k] = -(h / layers) / r;
+            }
+        }
+        if wr.iter().any(|r| !(r.is_finite() && *r > 0.0)) {
+            return Err(EngineError::Solver {
+                message: "a workpiece ring radius became non-positive".into(),
+            });
+        }
+        // Coil-workpiece and workpiece-workpiece blocks with their gradients.
+        let mut l_cw = DMatrix::<f64>::zeros(w0, nw);
+        let mut g_wc_r = DMatrix::<f64>::zeros(nw, w0); // ∂M/∂r_f (f workpiece) against coil j
+        let mut g_wc_z = DMatrix::<f64>::zeros(nw, w0);
+        let mut g_cw_r = DMatrix::<f64>::zeros(w0, nw); // ∂M/∂r_j (j coil) against workpiece f
+        for k in 0..nw {
+            for j in 0..w0 {
+                let c = &mesh.filaments[j];
+                let g = filament::mutual_inductance_with_gradient(c.r, wr[k], wz[k] - c.z);
+                l_cw[(j, k)] = g.m;
+                g_wc_r[(k, j)] = g.dm_db;
+                g_wc_z[(k, j)] = g.dm_dz;
+                g_cw_r[(j, k)] = g.dm_da;
+            }
+        }
+        let mut d = DMatrix::<f64>::zeros(nw, nw);
+        let mut g_ww_r = DMatrix::<f64>::zeros(nw, nw);
+        let mut self_dr = vec![0.0; nw];
+        for k in 0..nw {
+            let dz = mesh.filaments[w0 + k].dz;
+            d[(k, k)] = inductance::ring_rectangular(wr[k], wdr[k], dz);
+            g_ww_r[(k, k)] = 0.5 * inductance::ring_rectangular_dradius(wr[k], wdr[k], dz);
+            // ∂L_kk/∂(dr) at fixed radius, by a central difference of the GMD formula (the
+            // step 1e-5 relative keeps its error near 1e-10, far below the solver tolerance).
+            let e = 1e-5 * wdr[k];
+            self_dr[k] = (inductance::ring_rectangular(wr[k], wdr[k] + e, dz)
+                - inductance::ring_rectangular(wr[k], wdr[k] - e, dz))
+                / (2.0 * e);
+            for l in (k + 1)..nw {
+                let g = filament::mutual_inductance_with_gradient(wr[k], wr[l], wz[l] - wz[k]);
+                d[(k, l)] = g.m;
+                d[(l, k)] = g.m;
+                g_ww_r[(l, k)] = g.dm_db;
+                g_ww_r[(k, l)] = g.dm_da;
+            }
+        }
+        // Loop blocks: B = Pcᵀ L_cw, K = A⁻¹ B, S = D − Bᵀ K.
+        let ncl = self.n_coil_loops;
+        let mut b = DMatrix::<f64>::zeros(ncl, nw);
+        for (c, col) in self.coil_loops.iter().enumerate() {
+            for &(f, a) in col {
+                for w in 0..nw {
+                    b[(c, w)] += a * l_cw[(f, w)];
+                }
+            }
+        }
+        let k_mat = &self.a_inv * &b;
+        let s = &d - b.transpose() * &k_mat;
+        let chol: Cholesky<f64, Dyn> =
+            Cholesky::new(s).ok_or_else(|| EngineError::IndefiniteInductance {
+                conductor: "the moving workpiece (cells too close to the coil or too deformed)"
+                    .into(),
+            })?;
+        let nl = lay.nl;
+        let psi = y.rows(0, nl) * scales.psi;
+        let psi_c = psi.rows(0, ncl).into_owned();
+        let psi_w = psi.rows(ncl, nw).into_owned();
+        let y1 = &self.a_inv * &psi_c;
+        let x_w = chol.solve(&(psi_w - b.transpose() * &y1));
+        let x_c = y1 - &k_mat * &x_w;
+        let mut x = DVector::zeros(nl);
+        x.rows_mut(0, ncl).copy_from(&x_c);
+        x.rows_mut(ncl, nw).copy_from(&x_w);
+        let mut i_f = DVector::zeros(n);
+        self.base.filament_currents(&x, &mut i_f);
+        let i_c = i_f.rows(0, w0).into_owned();
+        let i_w = i_f.rows(w0, nw).into_owned();
+        // Resistances from temperature and geometry.
+        let mut r_f = DVector::zeros(n);
+        for f in 0..n {
+            let t = y[lay.temps + f] * ms.temperature;
+            let fil = &mesh.filaments[f];
+            let (alpha, r, dr) = if f < w0 {
+                (self.coil_alpha, fil.r, fil.dr)
+            } else {
+                (self.work_alpha, wr[f - w0], wdr[f - w0])
+            };
+            let rho = fil.resistivity * (1.0 + alpha * (t - self.t_initial)).max(1e-3);
+            r_f[f] = inductance::ring_resistance(rho, r, dr, fil.dz);
+        }
+        // Forces on workpiece filaments and the generalised ring forces.
+        let fr_c = &g_wc_r * &i_c; // Σ_j∈coil ∂M/∂r_f i_j
+        let fr_w = &g_ww_r * &i_w; // includes ½ ∂L_ff/∂r_f i_f on the diagonal
+        let fz_c = &g_wc_z * &i_c;
+        let mut ring_force = vec![0.0; nr];
+        let mut ring_axial_force = vec![0.0; nr];
+        let mut axial_force = 0.0;
+        for (q, ring) in self.rings.iter().enumerate() {
+            for &k in &ring.filaments {
+                let radial = i_w[k] * (fr_c[k] + fr_w[k]);
+                ring_force[q] += radial * drf[k] + 0.5 * i_w[k] * i_w[k] * self_dr[k] * ddrf[k];
+                let fz = i_w[k] * fz_c[k];
+                ring_axial_force[q] += fz;
+                axial_force += fz;
+            }
+        }
+        // Coil turn radial forces (coil held): coil-coil constant part plus coupling.
+        let mut turn_force = vec![0.0; mesh.turns];
+        let fc = &self.grad_r_cc * &i_c + &g_cw_r * &i_w;
+        for (f, fil) in mesh.filaments[..w0].iter().enumerate() {
+            if let Part::Coil { turn } = fil.part {
+                turn_force[turn] += i_c[f] * fc[f];
+            }
+        }
+        // Hoop stresses.
+        let mut ring_stress = vec![0.0; nr];
+        let mut ring_plastic_rate = vec![0.0; nr];
+        for (q, ring) in self.rings.iter().enumerate() {
+            let base_q = lay.rings + 4 * q;
+            let r = ring_radius[q];
+            let v = y[base_q + 1] * ms.velocity;
+            let eps = (r / ring.r0).ln();
+            let t_ring = ring.filaments.iter().map(|&k| y[lay.temps + w0 + k]).sum::<f64>()
+                / ring.filaments.len().max(1) as f64
+                * ms.temperature;
+            let (sigma, eps_p_rate) = hoop_stress_rate(
+                eps,
+                y[base_q + 2],
+                y[base_q + 3],
+                v / r,
+                t_ring,
+                self.mech.youngs_modulus,
+                &self.mech.flow,
+            );
+            ring_stress[q] = sigma;
+            ring_plastic_rate[q] = eps_p_rate;
+        }
+        Ok(Evaluation {
+            x,
+            i_f,
+            r_f,
+            ring_force,
+            ring_axial_force,
+            ring_stress,
+            ring_plastic_rate,
+            ring_radius,
+            ring_wall,
+            turn_force,
+            axial_force,
+        })
+    }
+}
+
+/// Switches that change between segments of a run.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Flags {
+    /// The crowbar has closed.
+    pub crowbarred: bool,
+    /// Rings held at the stop.
+    pub held: Vec<bool>,
+}
+
+/// An event that ends a segment.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Event {
+    /// The capacitor voltage reached zero (crowbar closes).
+    Crowbar,
+    /// Ring q reached the die or mandrel.
+    Stop(usize),
+    /// Ring q reached the coil.
+    CoilContact(usize),
+}
+
+/// The right-hand side with motion.
+pub struct MotionRhs<'a> {
+    /// The moving network.
+    pub net: &'a MovingNetwork,
+    circuit: Circuit,
+    scales: Scales,
+    ms: MechScales,
+    flags: Flags,
+    watch_crowbar: bool,
+    last: RefCell<Option<EngineError>>,
+    last_t: f64,
+    last_y: Option<DVector<f64>>,
+    /// The event that stopped the segment, with its bracket (t_before, t_after).
+    pub event: Option<(Event, f64, f64)>,
+    /// Smallest and largest accepted step, in seconds.
+    pub dt_range: (f64, f64),
+}
+
+impl<'a> MotionRhs<'a> {
+    /// A right-hand side for one segment.
+    pub fn new(
+        net: &'a MovingNetwork,
+        circuit: Circuit,
+        scales: Scales,
+        ms: MechScales,
+        flags: Flags,
+        watch_crowbar: bool,
+        t0: f64,
+    ) -> MotionRhs<'a> {
+        MotionRhs {
+            net,
+            circuit,
+            scales,
+            ms,
+            flags,
+            watch_crowbar,
+            last: RefCell::new(None),
+            last_t: t0,
+            last_y: None,
+            event: None,
+            dt_range: (f64::INFINITY, 0.0),
+        }
+    }
+
+    /// The first error met while evaluating (the stepper cannot return one).
+    pub fn take_error(&self) -> Option<EngineError> {
+        self.last.borrow_mut().take()
+    }
+
+    /// Time derivative of a scaled state.
+    pub fn derivative(&self, y: &DVector<f64>, dy: &mut DVector<f64>) {
+        dy.fill(0.0);
+        let ev = match self.net.evaluate(y, &self.scales, &self.ms) {
+            Ok(ev) => ev,
+            Err(e) => {
+                let mut slot_err = self.last.borrow_mut();
+                if slot_err.is_none() {
+                    *slot_err = Some(e);
+                }
+                // A NaN derivative makes the stepper reject and shrink, then stop.
+                dy.fill(f64::NAN);
+                return;
+            }
+        };
+        let net = self.net;
+        let lay = net.layout();
+        let nl = lay.nl;
+        let mesh = &net.base.mesh;
+        let n = mesh.filaments.len();
+        let w0 = mesh.workpiece_start();
+        let sc = &self.scales;
+        let ms = &self.ms;
+        // Circuit.
+        let mut drop_f = DVector::zeros(n);
+        let mut e_coil = 0.0;
+        let mut e_work = 0.0;
+        for f in 0..n {
+            let i = ev.i_f[f];
+            drop_f[f] = ev.r_f[f] * i;
+            if f < w0 {
+                e_coil += ev.r_f[f] * i * i;
+            } else {
+                e_work += ev.r_f[f] * i * i;
+            }
+        }
+        let mut drop_l = DVector::zeros(nl);
+        net.base.loop_sums(&drop_f, &mut drop_l);
+        let i0 = ev.x[0];
+        let v = y[nl + slot::V] * sc.volt;
+        let source = if self.flags.crowbarred { 0.0 } else { v };
+        let r_bank = self.circuit.external_resistance;
+        let r_cb = if self.flags.crowbarred { self.circuit.crowbar_resistance } else { 0.0 };
+        for k in 0..nl {
+            dy[k] = -drop_l[k] / sc.psi;
+        }
+        dy[0] += (source - (r_bank + r_cb) * i0) / sc.psi;
+        dy[nl + slot::V] =
+            if self.flags.crowbarred { 0.0 } else { -i0 / self.circuit.capacitance / sc.volt };
+        dy[nl + slot::E_BANK] = r_bank * i0 * i0 / sc.energy;
+        dy[nl + slot::E_COIL] = e_coil / sc.energy;
+        dy[nl + slot::E_WORK] = e_work / sc.energy;
+        dy[nl + slot::E_CROWBAR] = r_cb * i0 * i0 / sc.energy;
+        dy[nl + slot::CHARGE] = i0.abs() / sc.charge;
+        dy[nl + slot::ACTION] = i0 * i0 / sc.action;
+        // Mechanics.
+        let mut w_mech = 0.0;
+        let mut w_int = 0.0;
+        let vz = y[lay.mech + mslot::VZ] * ms.velocity;
+        dy[lay.mech + mslot::Z] = vz / ms.length;
+        dy[lay.mech + mslot::VZ] = ev.axial_force / net.total_mass / ms.velocity;
+        w_mech += ev.axial_force * vz;
+        let mech = &net.mech;
+        for q in 0..net.rings.len() {
+            let base_q = lay.rings + 4 * q;
+            let ring = &net.rings[q];
+            let v_q = y[base_q + 1] * ms.velocity;
+            let area = ring.area0 * ring.r0 / ev.ring_radius[q];
+            let sigma = ev.ring_stress[q];
+            if self.flags.held[q] {
+                // Held against the stop: no motion, no strain change.
+                dy[base_q] = 0.0;
+                dy[base_q + 1] = 0.0;
+            } else {
+                dy[base_q] = v_q / ms.length;
+                let acc =
+                    (ev.ring_force[q] - 2.0 * std::f64::consts::PI * area * sigma) / ring.mass;
+                dy[base_q + 1] = acc / ms.velocity;
+                w_mech += ev.ring_force[q] * v_q;
+                w_int += 2.0 * std::f64::consts::PI * area * sigma * v_q;
+            }
+            let rate = if self.flags.held[q] { 0.0 } else { ev.ring_plastic_rate[q] };
+            dy[base_q + 2] = rate;
+            dy[base_q + 3] = rate.abs();
+            // Taylor–Quinney plastic heating, shared by the ring's filaments.
+            let heat = TAYLOR_QUINNEY * sigma * rate / (mech.density * mech.specific_heat);
+            for &k in &ring.filaments {
+                dy[lay.temps + w0 + k] += heat / ms.temperature;
+            }
+        }
+        dy[lay.mech + mslot::W_MECH] = w_mech / sc.energy;
+        dy[lay.mech + mslot::W_INTERNAL] = w_int / sc.energy;
+        // Joule heating.
+        for f in 0..n {
+            let fil = &mesh.filaments[f];
+            let (vol, cap) = if f < w0 {
+                (2.0 * std::f64::consts::PI * fil.r * fil.dr * fil.dz, net.coil_heat_capacity)
+            } else {
+                let q = match fil.part {
+                    Part::Workpiece { ring, .. } => ring,
+                    Part::Coil { .. } => 0,
+                };
+                (
+                    net.ring_volume(q) / net.rings[q].filaments.len().max(1) as f64,
+                    mech.density * mech.specific_heat,
+                )
+            };
+            let p = ev.r_f[f] * ev.i_f[f] * ev.i_f[f];
+            dy[lay.temps + f] += p / (vol * cap) / ms.temperature;
+        }
+    }
+
+    fn detect(&self, y_prev: &DVector<f64>, y: &DVector<f64>) -> Option<Event> {
+        let lay = self.net.layout();
+        if self.watch_crowbar
+            && !self.flags.crowbarred
+            && y_prev[lay.nl + slot::V] > 0.0
+            && y[lay.nl + slot::V] <= 0.0
+        {
+            return Some(Event::Crowbar);
+        }
+        for q in 0..self.net.rings.len() {
+            if self.flags.held[q] {
+                continue;
+            }
+            if let Some(g) = self.net.stop_gap(q, y, &self.ms) {
+                if g <= 0.0 && self.net.stop_gap(q, y_prev, &self.ms).is_some_and(|g0| g0 > 0.0) {
+                    return Some(Event::Stop(q));
+                }
+            }
+            if let Some(g) = self.net.coil_gap(q, y, &self.ms) {
+                if g <= 0.0 {
+                    return Some(Event::CoilContact(q));
+                }
+            }
+        }
+        None
+    }
+}
+
+impl MovingNetwork {
+    /// Gap to the stop of ring q, in metres (positive while free), if there is a stop.
+    pub fn stop_gap(&self, q: usize, y: &DVector<f64>, ms: &MechScales) -> Option<f64> {
+        let lay = self.layout();
+        let ring = &self.rings[q];
+        let r = ring.r0 + y[lay.rings + 4 * q] * ms.length;
+        let h = ring.h0 * ring.r0 / r;
+        match self.stop? {
+            Stop::Die(rd) => Some(rd - (r + h / 2.0)),
+            Stop::Mandrel(rm) => Some((r - h / 2.0) - rm),
+        }
+    }
+
+    /// Gap to the coil of ring q, in metres (positive while clear), if the coil is on one side.
+    pub fn coil_gap(&self, q: usize, y: &DVector<f64>, ms: &MechScales) -> Option<f64> {
+        let lay = self.layout();
+        let ring = &self.rings[q];
+        let r = ring.r0 + y[lay.rings + 4 * q] * ms.length;
+        let h = ring.h0 * ring.r0 / r;
+        let (limit, coil_inside) = self.coil_limit?;
+        Some(if coil_inside { (r - h / 2.0) - limit } else { limit - (r + h / 2.0) })
+    }
+}
+
+impl System<f64, DVector<f64>> for &mut MotionRhs<'_> {
+    fn system(&self, _t: f64, y: &DVector<f64>, dy: &mut DVector<f64>) {
+        self.derivative(y, dy);
+    }
+
+    fn solout(&mut self, t: f64, y: &DVector<f64>, _dy: &DVector<f64>) -> bool {
+        let dt = t - self.last_t;
+        if dt > 0.0 {
+            self.dt_range.0 = self.dt_range.0.min(dt);
+            self.dt_range.1 = self.dt_range.1.max(dt);
+        }
+        if !y.iter().all(|v| v.is_finite()) || self.last.borrow().is_some() {
+            return true;
+        }
+        let stop = match self.last_y.as_ref() {
+            Some(prev) => self.detect(prev, y),
+            None => None,
+        };
+        if let Some(e) = stop {
+            self.event = Some((e, self.last_t, t));
+        }
+        self.last_t = t;
+        self.last_y = Some(y.clone());
+        stop.is_some()
+    }
+}
+
+/// One integrated segment of a motion run.
+pub struct MotionSegment {
+    /// Start time, in seconds.
+    pub t_start: f64,
+    /// End time, in seconds.
+    pub t_end: f64,
+    /// Continuous output of the scaled state.
+    pub model: ContinuousOutputModel<f64, DVector<f64>>,
+    /// State at the start.
+    pub y_start: DVector<f64>,
+    /// Flags in force during the segment.
+    pub flags: Flags,
+    /// Accepted, rejected steps and evaluations.
+    pub counts: (u64, u64, u64),
+    /// Smallest and largest accepted step, in seconds.
+    pub dt_range: (f64, f64),
+    /// The event that ended it, with its bracket.
+    pub event: Option<(Event, f64, f64)>,
+}
+
+impl MotionSegment {
+    /// Scaled state at time t, clamped into the segment.
+    pub fn state(&self, t: f64) -> DVector<f64> {
+        if t <= self.t_start {
+            return self.y_start.clone();
+        }
+        self.model.evaluate(t.min(self.t_end)).unwrap_or_else(|| self.y_start.clone())
+    }
+}
+
+/// Integrates one motion segment.
+#[allow(clippy::too_many_arguments)]
+pub fn integrate_motion_segment(
+    net: &MovingNetwork,
+    circuit: Circuit,
+    scales: Scales,
+    ms: MechScales,
+    flags: Flags,
+    watch_crowbar: bool,
+    t0: f64,
+    t1: f64,
+    y0: DVector<f64>,
+    settings: &StepperSettings,
+) -> Result<MotionSegment, EngineError> {
+    let mut rhs = MotionRhs::new(net, circuit, scales, ms, flags.clone(), watch_crowbar, t0);
+    rhs.last_y = Some(y0.clone());
+    let mut model = ContinuousOutputModel::default();
+    let outcome = {
+        let mut stepper = Dopri5::from_param(
+            &mut rhs,
+            t0,
+            t1,
+            (t1 - t0) / 100.0,
+            y0.clone(),
+            settings.rel_tol,
+            settings.abs_tol,
+            0.9,
+            0.04,
+            0.2,
+            10.0,
+            settings.max_step,
+            0.0,
+            settings.max_steps,
+            u32::MAX,
+            OutputType::Continuous,
+        );
+        stepper.integrate_with_continuous_output_model(&mut model)
+    };
+    if let Some(e) = rhs.take_error() {
+        return Err(e);
+    }
+    let stats = outcome.map_err(|e| EngineError::Solver { message: e.to_string() })?;
+    let t_end = rhs.event.map_or(t1, |(_, _, tb)| tb);
+    Ok(MotionSegment {
+        t_start: t0,
+        t_end,
+        model,
+        y_start: y0,
+        flags,
+        counts: (
+            u64::from(stats.accepted_steps),
+            u64::from(stats.rejected_steps),
+            u64::from(stats.num_eval),
+        ),
+        dt_range: rhs.dt_range,
+        event: rhs.event,
+    })
+}

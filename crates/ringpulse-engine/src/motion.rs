@@ -148,8 +148,12 @@ pub struct Evaluation {
     pub i_f: DVector<f64>,
     /// Filament resistances, in ohms.
     pub r_f: DVector<f64>,
-    /// Generalised radial force on each ring, in newtons.
+    /// Generalised radial force on each ring (the derivative of the magnetic co-energy with
+    /// respect to the ring's mean radius, wall thinning included), in newtons. Drives the ring.
     pub ring_force: Vec<f64>,
+    /// Net Lorentz radial force on each ring (sum over its cells at fixed section, as reported
+    /// by the fixed-geometry engine), in newtons. Used for the reported pressure.
+    pub ring_lorentz: Vec<f64>,
     /// Axial force on each ring, in newtons.
     pub ring_axial_force: Vec<f64>,
     /// Hoop stress of each ring, in pascals.
@@ -434,12 +438,14 @@ impl MovingNetwork {
         let fr_w = &g_ww_r * &i_w; // includes ½ ∂L_ff/∂r_f i_f on the diagonal
         let fz_c = &g_wc_z * &i_c;
         let mut ring_force = vec![0.0; nr];
+        let mut ring_lorentz = vec![0.0; nr];
         let mut ring_axial_force = vec![0.0; nr];
         let mut axial_force = 0.0;
         for (q, ring) in self.rings.iter().enumerate() {
             for &k in &ring.filaments {
                 let radial = i_w[k] * (fr_c[k] + fr_w[k]);
                 ring_force[q] += radial * drf[k] + 0.5 * i_w[k] * i_w[k] * self_dr[k] * ddrf[k];
+                ring_lorentz[q] += radial;
                 let fz = i_w[k] * fz_c[k];
                 ring_axial_force[q] += fz;
                 axial_force += fz;
@@ -481,6 +487,7 @@ impl MovingNetwork {
             i_f,
             r_f,
             ring_force,
+            ring_lorentz,
             ring_axial_force,
             ring_stress,
             ring_plastic_rate,

@@ -258,7 +258,7 @@ pub fn run_motion(
         traces.capacitor_voltage.push(ys[nl + slot::V] * scales.volt);
         let w0 = net.base.mesh.workpiece_start();
         traces.workpiece_current.push(ev.i_f.rows(w0, ev.i_f.len() - w0).sum());
-        traces.radial_force.push(ev.ring_force.iter().sum());
+        traces.radial_force.push(ev.ring_lorentz.iter().sum());
         traces.axial_force.push(ev.axial_force);
         // di/dt from the flux derivative (one extra evaluation per sample).
         let rhs =
@@ -291,8 +291,8 @@ pub fn run_motion(
             let r = ev.ring_radius[q];
             let face =
                 if face_outer { r + ev.ring_wall[q] / 2.0 } else { r - ev.ring_wall[q] / 2.0 };
-            let p =
-                face_sign * ev.ring_force[q] / (2.0 * std::f64::consts::PI * face * net.ring_dz(q));
+            let p = face_sign * ev.ring_lorentz[q]
+                / (2.0 * std::f64::consts::PI * face * net.ring_dz(q));
             ring_p[q] = p;
             p_max = p_max.max(p);
             if peak_pressure.as_ref().is_none_or(|pk| p > pk.value) {

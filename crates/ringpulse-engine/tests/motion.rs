@@ -1,0 +1,139 @@
+//! Checks of the moving-workpiece model.
+//!
+//! Sources: the energy balance of a coupled circuit-mechanical system (the magnetic force is
+//! the gradient of the magnetic co-energy, ½ iᵀ ∂L/∂x i; NOTES A5); the adiabatic Joule heating
+//! law with linear resistivity integrated in closed form, T = T0 + (exp(g ρ0 α/(ρ_m c)) − 1)/α
+//! with g = ∫ j² dt (derivation in docs/theory.md, "Heating"); the thin-ring hoop equation
+//! (Gourdin 1989, recalled from memory).
+
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)]
+
+use ringpulse_case::{Resolution, Split};
+use ringpulse_engine::flow::FlowLaw;
+use ringpulse_engine::reference::{coil, simple_case, tube};
+use ringpulse_engine::{prepare, run_motion, run_prepared, MotionOptions};
+
+fn coarse_expansion() -> ringpulse_case::Case {
+    let mut case = simple_case(
+        200e-6,
+        5e3,
+        100e-9,
+        5e-3,
+        coil(6, 22e-3, 3e-3, 4e-3, 5.5e-3, None),
+        Some(tube(25e-3, 1.5e-3, 60e-3, "aluminium_6061_t6", None)),
+    );
+    case.discretization.mode = Resolution::Coarse { tube_rings: 40 };
+    case
+}
+
+#[test]
+fn frozen_motion_equals_fixed_geometry() {
+    let mut case = coarse_expansion();
+    // An immovable, non-heating workpiece and coil: huge density, no temperature coefficient.
+    let wp = case.workpiece.as_mut().unwrap();
+    wp.material.density = 1e30;
+    wp.material.temperature_coefficient = 0.0;
+    case.coil.material.temperature_coefficient = 0.0;
+    case.solver.rel_tol = 1e-9;
+    case.solver.abs_tol = 1e-11;
+    let fixed = run_prepared(&case, prepare(&case).unwrap()).unwrap();
+    let moving = run_motion(&case, prepare(&case).unwrap(), &MotionOptions::default()).unwrap();
+    let (a, b) = (&fixed.summary, &moving.summary);
+    let rel = |x: f64, y: f64| (x - y).abs() / y.abs();
+    assert!(
+        rel(b.peak_coil_current, a.peak_coil_current) < 1e-7,
+        "{} vs {}",
+        b.peak_coil_current,
+        a.peak_coil_current
+    );
+    assert!(rel(b.time_of_peak_current, a.time_of_peak_current) < 1e-6);
+    assert!(
+        rel(b.peak_radial_force, a.peak_radial_force) < 1e-6,
+        "{} vs {}",
+        b.peak_radial_force,
+        a.peak_radial_force
+    );
+    let pa = a.peak_pressure.as_ref().unwrap();
+    let pb = b.peak_pressure.as_ref().unwrap();
+    assert!(rel(pb.value, pa.value) < 1e-5, "pressure {} vs {}", pb.value, pa.value);
+    assert!(rel(b.energy.workpiece, a.energy.workpiece) < 1e-6);
+    let m = b.motion.as_ref().unwrap();
+    assert!(m.max_displacement.abs() < 1e-20, "displacement {}", m.max_displacement);
+}
+
+#[test]
+fn energy_account_with_motion_closes() {
+    let case = coarse_expansion();
+    let r = run_motion(&case, prepare(&case).unwrap(), &MotionOptions::default()).unwrap();
+    let e = &r.summary.energy;
+    assert!(e.relative_residual.abs() < 1e-3, "residual {:e}", e.relative_residual);
+    assert!(e.plastic > 0.0 && e.kinetic >= 0.0 && e.elastic >= 0.0);
+    let m = r.summary.motion.as_ref().unwrap();
+    assert!(m.max_displacement > 1e-3, "the tube expands: {}", m.max_displacement);
+    assert!(m.max_velocity > 50.0 && m.max_velocity < 500.0, "{}", m.max_velocity);
+    assert!((m.efficiency - e.plastic / e.initial).abs() < 1e-12);
+    // Strain follows the radius: ln(r/r0) of the most displaced ring.
+    assert!(m.final_strain_range[1] > 0.0 && m.final_strain_range[0] >= -1e-6);
+}
+
+#[test]
+fn die_stops_rings_and_records_impacts() {
+    let case = coarse_expansion();
+    // Die 2 mm outside the tube's outer surface (26.5 mm).
+    let die = 28.5e-3;
+    let opts = MotionOptions { stop_radius: Some(die), flow: None };
+    let r = run_motion(&case, prepare(&case).unwrap(), &opts).unwrap();
+    let m = r.summary.motion.as_ref().unwrap();
+    assert!(m.rings_at_stop > 0, "some rings reach the die");
+    let t_hit = m.first_impact_time.unwrap();
+    let v_hit = m.max_impact_velocity.unwrap();
+    assert!(t_hit > 0.0 && v_hit > 10.0, "impact at {t_hit} s, {v_hit} m/s");
+    // Held rings sit with their outer surface on the die (volume-constant wall).
+    let last = r.rings.radius_history.last().unwrap();
+    for &(q, _, _) in &m.impacts {
+        let r0 = r.rings.radius[q];
+        let h = 1.5e-3 * r0 / last[q];
+        assert!((last[q] + h / 2.0 - die).abs() < 1e-6, "ring {q} at {}", last[q] + h / 2.0);
+    }
+    let e = &r.summary.energy;
+    assert!(e.impact > 0.0);
+    assert!(e.relative_residual.abs() < 1e-3, "residual {:e}", e.relative_residual);
+}
+
+#[test]
+fn joule_heating_matches_closed_form() {
+    // One filament of coil, a far workpiece that barely couples; the coil filament's
+    // temperature must follow the closed form for the action density it carried.
+    let mut case = simple_case(
+        200e-6,
+        3e3,
+        200e-9,
+        2e-3,
+        coil(1, 20e-3, 2e-3, 2e-3, 2e-3, Some(Split { radial: 1, axial: 1 })),
+        Some(tube(40e-3, 1e-3, 5e-3, "aluminium_6061_t6", Some(Split { radial: 1, axial: 2 }))),
+    );
+    case.workpiece.as_mut().unwrap().z_center = 0.3;
+    case.solver.rel_tol = 1e-10;
+    case.solver.abs_tol = 1e-12;
+    let r = run_motion(&case, prepare(&case).unwrap(), &MotionOptions::default()).unwrap();
+    let m = &case.coil.material;
+    let area = 2e-3 * 2e-3;
+    let g = r.summary.action_integral / (area * area);
+    let (rho0, alpha, t0) = (m.resistivity, m.temperature_coefficient, case.initial_temperature);
+    let expected = t0 + ((g * rho0 * alpha / (m.density * m.specific_heat)).exp() - 1.0) / alpha;
+    let got = r.summary.peak_coil_temperature;
+    assert!(got - t0 > 10.0, "the filament heats: {got} K");
+    assert!((got - expected).abs() < 1e-6 * (expected - t0), "{got} K vs {expected} K");
+}
+
+#[test]
+fn constant_flow_stress_override_is_used() {
+    let case = coarse_expansion();
+    let soft = MotionOptions { stop_radius: None, flow: Some(FlowLaw::Constant { stress: 50e6 }) };
+    let hard = MotionOptions { stop_radius: None, flow: Some(FlowLaw::Constant { stress: 400e6 }) };
+    let a = run_motion(&case, prepare(&case).unwrap(), &soft).unwrap();
+    let b = run_motion(&case, prepare(&case).unwrap(), &hard).unwrap();
+    let da = a.summary.motion.unwrap().max_displacement;
+    let db = b.summary.motion.unwrap().max_displacement;
+    assert!(da > 1.5 * db, "softer material moves further: {da} vs {db}");
+}

@@ -22,7 +22,7 @@
 
 use std::cell::RefCell;
 
-use crate::flow::{hoop_stress_rate, FlowLaw, TAYLOR_QUINNEY};
+use crate::flow::{hoop_state, plastic_rate, FlowLaw, HoopState, TAYLOR_QUINNEY};
 use nalgebra::{Cholesky, DMatrix, DVector, Dyn};
 use ode_solvers::continuous_output_model::ContinuousOutputModel;
 use ode_solvers::{Dopri5, OutputType, System};
@@ -158,8 +158,10 @@ pub struct Evaluation {
     pub ring_axial_force: Vec<f64>,
     /// Hoop stress of each ring, in pascals.
     pub ring_stress: Vec<f64>,
-    /// Plastic strain rate of each ring, in 1/s.
-    pub ring_plastic_rate: Vec<f64>,
+    /// Hoop state of each ring (stress, flow stress, yielding).
+    pub ring_hoop: Vec<HoopState>,
+    /// Mean temperature of each ring, in kelvin.
+    pub ring_temperature: Vec<f64>,
     /// Mean radius of each ring, in metres.
     pub ring_radius: Vec<f64>,
     /// Wall of each ring, in metres.
@@ -461,7 +463,8 @@ impl MovingNetwork {
         }
         // Hoop stresses.
         let mut ring_stress = vec![0.0; nr];
-        let mut ring_plastic_rate = vec![0.0; nr];
+        let mut ring_hoop = Vec::with_capacity(nr);
+        let mut ring_temperature = vec![0.0; nr];
         for (q, ring) in self.rings.iter().enumerate() {
             let base_q = lay.rings + 4 * q;
             let r = ring_radius[q];
@@ -470,7 +473,7 @@ impl MovingNetwork {
             let t_ring = ring.filaments.iter().map(|&k| y[lay.temps + w0 + k]).sum::<f64>()
                 / ring.filaments.len().max(1) as f64
                 * ms.temperature;
-            let (sigma, eps_p_rate) = hoop_stress_rate(
+            let st = hoop_state(
                 eps,
                 y[base_q + 2],
                 y[base_q + 3],
@@ -479,8 +482,9 @@ impl MovingNetwork {
                 self.mech.youngs_modulus,
                 &self.mech.flow,
             );
-            ring_stress[q] = sigma;
-            ring_plastic_rate[q] = eps_p_rate;
+            ring_stress[q] = st.stress;
+            ring_hoop.push(st);
+            ring_temperature[q] = t_ring;
         }
         Ok(Evaluation {
             x,
@@ -490,7 +494,8 @@ impl MovingNetwork {
             ring_lorentz,
             ring_axial_force,
             ring_stress,
-            ring_plastic_rate,
+            ring_hoop,
+            ring_temperature,
             ring_radius,
             ring_wall,
             turn_force,
@@ -623,6 +628,26 @@ impl<'a> MotionRhs<'a> {
         dy[nl + slot::E_CROWBAR] = r_cb * i0 * i0 / sc.energy;
         dy[nl + slot::CHARGE] = i0.abs() / sc.charge;
         dy[nl + slot::ACTION] = i0 * i0 / sc.action;
+        let mech = &net.mech;
+        // Joule heating; the mean rate of each ring also enters its plastic consistency.
+        let mut ring_t_dot = vec![0.0; net.rings.len()];
+        for f in 0..n {
+            let fil = &mesh.filaments[f];
+            let p = ev.r_f[f] * ev.i_f[f] * ev.i_f[f];
+            let rate = if f < w0 {
+                p / (2.0 * std::f64::consts::PI * fil.r * fil.dr * fil.dz * net.coil_heat_capacity)
+            } else {
+                let q = match fil.part {
+                    Part::Workpiece { ring, .. } => ring,
+                    Part::Coil { .. } => 0,
+                };
+                let layers = net.rings[q].filaments.len().max(1) as f64;
+                let r = p / (net.ring_volume(q) / layers * mech.density * mech.specific_heat);
+                ring_t_dot[q] += r / layers;
+                r
+            };
+            dy[lay.temps + f] += rate / ms.temperature;
+        }
         // Mechanics.
         let mut w_mech = 0.0;
         let mut w_int = 0.0;
@@ -630,7 +655,6 @@ impl<'a> MotionRhs<'a> {
         dy[lay.mech + mslot::Z] = vz / ms.length;
         dy[lay.mech + mslot::VZ] = ev.axial_force / net.total_mass / ms.velocity;
         w_mech += ev.axial_force * vz;
-        let mech = &net.mech;
         for q in 0..net.rings.len() {
             let base_q = lay.rings + 4 * q;
             let ring = &net.rings[q];
@@ -649,7 +673,24 @@ impl<'a> MotionRhs<'a> {
                 w_mech += ev.ring_force[q] * v_q;
                 w_int += 2.0 * std::f64::consts::PI * area * sigma * v_q;
             }
-            let rate = if self.flags.held[q] { 0.0 } else { ev.ring_plastic_rate[q] };
+            let rate = if self.flags.held[q] {
+                0.0
+            } else {
+                let r = ev.ring_radius[q];
+                let acc = dy[base_q + 1] * ms.velocity;
+                // d(ε̇)/dt for ε̇ = v/r.
+                let rate_dot = acc / r - (v_q / r).powi(2);
+                plastic_rate(
+                    &ev.ring_hoop[q],
+                    y[base_q + 3],
+                    v_q / r,
+                    rate_dot,
+                    ev.ring_temperature[q],
+                    ring_t_dot[q],
+                    mech.youngs_modulus,
+                    &mech.flow,
+                )
+            };
             dy[base_q + 2] = rate;
             dy[base_q + 3] = rate.abs();
             // Taylor–Quinney plastic heating, shared by the ring's filaments.
@@ -660,24 +701,6 @@ impl<'a> MotionRhs<'a> {
         }
         dy[lay.mech + mslot::W_MECH] = w_mech / sc.energy;
         dy[lay.mech + mslot::W_INTERNAL] = w_int / sc.energy;
-        // Joule heating.
-        for f in 0..n {
-            let fil = &mesh.filaments[f];
-            let (vol, cap) = if f < w0 {
-                (2.0 * std::f64::consts::PI * fil.r * fil.dr * fil.dz, net.coil_heat_capacity)
-            } else {
-                let q = match fil.part {
-                    Part::Workpiece { ring, .. } => ring,
-                    Part::Coil { .. } => 0,
-                };
-                (
-                    net.ring_volume(q) / net.rings[q].filaments.len().max(1) as f64,
-                    mech.density * mech.specific_heat,
-                )
-            };
-            let p = ev.r_f[f] * ev.i_f[f] * ev.i_f[f];
-            dy[lay.temps + f] += p / (vol * cap) / ms.temperature;
-        }
     }
 
     fn detect(&self, y_prev: &DVector<f64>, y: &DVector<f64>) -> Option<Event> {

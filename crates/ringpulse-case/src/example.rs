@@ -31,7 +31,7 @@ const EXAMPLE: &str = r#"{
     "resistance": "1 mOhm"
   },
   "coil": {
-    "notes": "turns: number of turns, integer >= 1, required. mean_radius: radius of the conductor centre, m, > 0; give it or inner_radius (m, > 0), not both. conductor: rectangular cross-section, required. pitch: axial distance between turn centres, m, >= conductor.axial; or winding_length = turns * pitch (m); exactly one of the two is required when turns > 1, and neither is used for one turn. z_center: axial centre of the winding, m, default 0. material: a built-in name (copper, copper_ofhc, aluminium_1050, aluminium_6061_t6, aluminium_6063_t6, brass, steel_1010, stainless_304, titanium_grade2) or an object {\"base\": \"copper\", \"resistivity\": \"1.75e-8 Ohm m\", ...}. split: optional {\"radial\": 3, \"axial\": 4} filaments per turn instead of the automatic split. Here the winding spans r = 19.5 to 22.5 mm, leaving a 2.5 mm gap to the tube.",
+    "notes": "turns: number of turns, integer >= 1, required. mean_radius: radius of the conductor centre, m, > 0; give it or inner_radius (m, > 0), not both. conductor: rectangular cross-section, required. pitch: axial distance between turn centres, m, >= conductor.axial; or winding_length = turns * pitch (m); exactly one of the two is required when turns > 1, and neither is used for one turn. z_center: axial centre of the winding, m, default 0. material: a built-in name (copper, copper_ofhc, aluminium_1050, aluminium_6061_t6, aluminium_6063_t6, brass, steel_1010, stainless_304, titanium_grade2) or an object {\"base\": \"copper\", \"resistivity\": \"1.75e-8 Ohm m\", ...}. split: optional {\"radial\": 3, \"axial\": 4} filaments per turn instead of the automatic split. hold: what a sweep of turns keeps fixed, \"pitch\" (default) or \"winding_length\". Here the winding spans r = 19.5 to 22.5 mm, leaving a 2.5 mm gap to the tube.",
     "turns": 6,
     "mean_radius": "21 mm",
     "conductor": {
@@ -41,7 +41,8 @@ const EXAMPLE: &str = r#"{
     },
     "pitch": "5 mm",
     "z_center": "0 mm",
-    "material": "copper"
+    "material": "copper",
+    "hold": "pitch"
   },
   "workpiece": {
     "notes": "Optional: without it the bank discharges into the coil alone. inner_radius: m, required, > 0. wall: wall thickness, m, required, > 0. length: axial length, m, required, > 0. z_center: axial centre, m, default 0. material: as for the coil. split: optional {\"radial\": 2, \"axial\": 60} fixed filaments. The tube must not overlap or touch any coil turn.",
@@ -60,13 +61,46 @@ const EXAMPLE: &str = r#"{
     "max_aspect": 1.5
   },
   "solver": {
-    "notes": "Optional. rel_tol: relative tolerance, default 1e-7, in (0, 0.01]. abs_tol: absolute tolerance on the scaled state, default 1e-9, > 0. end_time: s, > 0, default three estimated ringing periods. output_step: output sampling interval, s, > 0, default end_time / 2000; at most 1e6 samples.",
+    "notes": "Optional. rel_tol: relative tolerance, default 1e-7, in (0, 0.01]. abs_tol: absolute tolerance on the scaled state, default 1e-9, > 0. end_time: s, > 0, default three estimated ringing periods. output_step: output sampling interval, s, > 0, default end_time / 1000 (end_time / 500 with motion); at most 1e6 samples.",
     "rel_tol": 1e-7,
     "abs_tol": 1e-9,
     "end_time": "300 us",
     "output_step": "0.1 us"
   },
-  "initial_temperature": "20 degC"
+  "motion": {
+    "notes": "Optional; \"motion\": false keeps the geometry fixed. enabled: true or false, default true when there is a workpiece. stop_radius: a rigid die at or beyond the tube's outer surface, or a mandrel at or within its inner surface, m, default none; here a die 2.5 mm outside the tube. flow_stress: optional law of the workpiece, e.g. {\"law\": \"johnson_cook\", \"set\": \"aluminium_6061_t6\"}, {\"law\": \"power\", \"k\": \"410 MPa\", \"n\": 0.05} or {\"law\": \"constant\", \"stress\": \"276 MPa\"}; default chosen from the material (docs/case-format.md).",
+    "enabled": true,
+    "stop_radius": "29 mm"
+  },
+  "initial_temperature": "20 degC",
+  "ratings": {
+    "notes": "Optional limits that ringpulse check compares the run against; each limit is optional and must be > 0, an absent one is not checked. The numbers here are invented for the example: take yours from the makers' data sheets. Margin = (limit - value) / limit.",
+    "switch": {
+      "notes": "peak_current: A. peak_di_dt: A/s, e.g. \"30 kA/us\". charge: charge per shot, integral of |i| dt, C. action_integral: integral of i^2 dt, A2s (a prefix scales the whole unit: \"2 MA2s\" is 2e6 A2s). reverse_current: largest current of the opposite sign to the first peak, % of that peak.",
+      "peak_current": "200 kA",
+      "peak_di_dt": "30 kA/us",
+      "charge": "20 C",
+      "action_integral": "2 MA2s",
+      "reverse_current": "30 %"
+    },
+    "capacitors": {
+      "notes": "voltage: rated voltage, compared with bank.voltage, V. voltage_reversal: allowed reversal, % of the charging voltage. peak_current: rating of one unit, A. units: number of equal units in parallel sharing the bank current, integer, default 1.",
+      "voltage": "10 kV",
+      "voltage_reversal": "20 %",
+      "peak_current": "50 kA",
+      "units": 4
+    },
+    "coil": {
+      "notes": "With this object the turns' hoop stress is checked against allowed_hoop_stress (Pa), or, if that is absent, against the coil material's yield strength / safety_factor (plain number >= 1, default 2); give at most one of the two. temperature_rise: allowed rise of the hottest coil filament over initial_temperature, K.",
+      "temperature_rise": "150 K",
+      "allowed_hoop_stress": "300 MPa"
+    },
+    "feeder": {
+      "notes": "peak_current: A. action_integral: A2s.",
+      "peak_current": "200 kA",
+      "action_integral": "2 MA2s"
+    }
+  }
 }
 "#;
 

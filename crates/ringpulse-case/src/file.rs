@@ -48,6 +48,10 @@ pub struct CaseFile {
     pub solver: Option<Section<SolverFile>>,
     /// Initial temperature of every conductor (temperature). Optional.
     pub initial_temperature: Option<Value>,
+    /// Limits of switch, capacitors, coil and feeder to check a run against. Optional.
+    pub ratings: Option<Section<RatingsFile>>,
+    /// Workpiece motion: true, false or an object (stop_radius, flow_stress). Optional.
+    pub motion: Option<Value>,
     /// Keys not in the schema.
     #[serde(flatten)]
     pub unknown: Unknown,
@@ -65,6 +69,8 @@ impl CaseFile {
         "discretization",
         "solver",
         "initial_temperature",
+        "ratings",
+        "motion",
     ];
 }
 
@@ -156,6 +162,8 @@ pub struct CoilFile {
     pub material: Option<MaterialFile>,
     /// Fixed filament split of each turn. Optional.
     pub split: Option<Section<SplitFile>>,
+    /// What a sweep of `turns` keeps: `"pitch"` (default) or `"winding_length"`. Optional.
+    pub hold: Option<Value>,
     /// Keys not in the schema.
     #[serde(flatten)]
     pub unknown: Unknown,
@@ -174,6 +182,7 @@ impl CoilFile {
         "z_center",
         "material",
         "split",
+        "hold",
     ];
 }
 
@@ -361,6 +370,121 @@ impl SolverFile {
         &["notes", "rel_tol", "abs_tol", "end_time", "output_step"];
 }
 
+/// The `ratings` object: limits to check a run against, each optional.
+#[derive(Debug, Clone, Default, PartialEq, Deserialize)]
+pub struct RatingsFile {
+    /// Free text, ignored by validation.
+    pub notes: Option<Value>,
+    /// The closing switch. Optional.
+    pub switch: Option<Section<SwitchRatingsFile>>,
+    /// The capacitors of the bank. Optional.
+    pub capacitors: Option<Section<CapacitorRatingsFile>>,
+    /// The forming coil. Optional.
+    pub coil: Option<Section<CoilRatingsFile>>,
+    /// The feeder cable or bus. Optional.
+    pub feeder: Option<Section<FeederRatingsFile>>,
+    /// Keys not in the schema.
+    #[serde(flatten)]
+    pub unknown: Unknown,
+}
+
+impl RatingsFile {
+    /// The keys this object accepts, in documentation order.
+    pub const FIELDS: &'static [&'static str] =
+        &["notes", "switch", "capacitors", "coil", "feeder"];
+}
+
+/// The `ratings.switch` object.
+#[derive(Debug, Clone, Default, PartialEq, Deserialize)]
+pub struct SwitchRatingsFile {
+    /// Free text, ignored by validation.
+    pub notes: Option<Value>,
+    /// Largest allowed current (current). Optional.
+    pub peak_current: Option<Value>,
+    /// Largest allowed rate of rise of current (current rate). Optional.
+    pub peak_di_dt: Option<Value>,
+    /// Largest allowed charge per shot, ∫|i| dt (charge). Optional.
+    pub charge: Option<Value>,
+    /// Largest allowed action integral per shot, ∫i² dt (action). Optional.
+    pub action_integral: Option<Value>,
+    /// Largest allowed reverse current, percent of the first peak (percent). Optional.
+    pub reverse_current: Option<Value>,
+    /// Keys not in the schema.
+    #[serde(flatten)]
+    pub unknown: Unknown,
+}
+
+impl SwitchRatingsFile {
+    /// The keys this object accepts, in documentation order.
+    pub const FIELDS: &'static [&'static str] =
+        &["notes", "peak_current", "peak_di_dt", "charge", "action_integral", "reverse_current"];
+}
+
+/// The `ratings.capacitors` object.
+#[derive(Debug, Clone, Default, PartialEq, Deserialize)]
+pub struct CapacitorRatingsFile {
+    /// Free text, ignored by validation.
+    pub notes: Option<Value>,
+    /// Rated voltage (voltage). Optional.
+    pub voltage: Option<Value>,
+    /// Allowed voltage reversal, percent of the charging voltage (percent). Optional.
+    pub voltage_reversal: Option<Value>,
+    /// Largest allowed current per unit (current). Optional.
+    pub peak_current: Option<Value>,
+    /// Number of capacitor units sharing the bank current (integer). Optional.
+    pub units: Option<Value>,
+    /// Keys not in the schema.
+    #[serde(flatten)]
+    pub unknown: Unknown,
+}
+
+impl CapacitorRatingsFile {
+    /// The keys this object accepts, in documentation order.
+    pub const FIELDS: &'static [&'static str] =
+        &["notes", "voltage", "voltage_reversal", "peak_current", "units"];
+}
+
+/// The `ratings.coil` object.
+#[derive(Debug, Clone, Default, PartialEq, Deserialize)]
+pub struct CoilRatingsFile {
+    /// Free text, ignored by validation.
+    pub notes: Option<Value>,
+    /// Allowed temperature rise of the hottest coil filament (temperature difference). Optional.
+    pub temperature_rise: Option<Value>,
+    /// Allowed conductor hoop stress magnitude (stress). Optional.
+    pub allowed_hoop_stress: Option<Value>,
+    /// Yield strength over allowed hoop stress (plain number). Optional.
+    pub safety_factor: Option<Value>,
+    /// Keys not in the schema.
+    #[serde(flatten)]
+    pub unknown: Unknown,
+}
+
+impl CoilRatingsFile {
+    /// The keys this object accepts, in documentation order.
+    pub const FIELDS: &'static [&'static str] =
+        &["notes", "temperature_rise", "allowed_hoop_stress", "safety_factor"];
+}
+
+/// The `ratings.feeder` object.
+#[derive(Debug, Clone, Default, PartialEq, Deserialize)]
+pub struct FeederRatingsFile {
+    /// Free text, ignored by validation.
+    pub notes: Option<Value>,
+    /// Largest allowed current (current). Optional.
+    pub peak_current: Option<Value>,
+    /// Largest allowed action integral, ∫i² dt (action). Optional.
+    pub action_integral: Option<Value>,
+    /// Keys not in the schema.
+    #[serde(flatten)]
+    pub unknown: Unknown,
+}
+
+impl FeederRatingsFile {
+    /// The keys this object accepts, in documentation order.
+    pub const FIELDS: &'static [&'static str] = &["notes", "peak_current", "action_integral"];
+}
+
 #[cfg(test)]
 // A failing test is a panic; that is what these helpers are for.
 #[allow(clippy::panic)]
@@ -392,6 +516,11 @@ mod tests {
         all_fields_known::<CustomMaterialFile>(CustomMaterialFile::FIELDS, |t| &t.unknown);
         all_fields_known::<DiscretizationFile>(DiscretizationFile::FIELDS, |t| &t.unknown);
         all_fields_known::<SolverFile>(SolverFile::FIELDS, |t| &t.unknown);
+        all_fields_known::<RatingsFile>(RatingsFile::FIELDS, |t| &t.unknown);
+        all_fields_known::<SwitchRatingsFile>(SwitchRatingsFile::FIELDS, |t| &t.unknown);
+        all_fields_known::<CapacitorRatingsFile>(CapacitorRatingsFile::FIELDS, |t| &t.unknown);
+        all_fields_known::<CoilRatingsFile>(CoilRatingsFile::FIELDS, |t| &t.unknown);
+        all_fields_known::<FeederRatingsFile>(FeederRatingsFile::FIELDS, |t| &t.unknown);
     }
 
     #[test]

@@ -21,6 +21,113 @@ pub struct Case {
     pub solver: SolverSettings,
     /// Initial temperature of every conductor, in kelvin. Default: 293.15 K.
     pub initial_temperature: f64,
+    /// Limits to check a run against. Default: none (every limit `None`).
+    pub ratings: Ratings,
+    /// Whether and how the workpiece moves.
+    pub motion: MotionSettings,
+}
+
+/// Ratings of switch, capacitors, coil and feeder; every limit is optional.
+///
+/// A run is checked against each limit that is given (see docs/study.md); `None` means the
+/// quantity is not checked.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct Ratings {
+    /// The closing switch.
+    pub switch: SwitchRatings,
+    /// The capacitors of the bank.
+    pub capacitors: CapacitorRatings,
+    /// The forming coil.
+    pub coil: CoilRatings,
+    /// The feeder cable or bus.
+    pub feeder: FeederRatings,
+}
+
+impl Ratings {
+    /// True when no limit at all is given.
+    pub fn is_empty(&self) -> bool {
+        let s = &self.switch;
+        let c = &self.capacitors;
+        [
+            s.peak_current,
+            s.peak_di_dt,
+            s.charge,
+            s.action_integral,
+            s.reverse_current_percent,
+            c.voltage,
+            c.voltage_reversal_percent,
+            c.peak_current,
+            self.coil.temperature_rise,
+            self.coil.allowed_hoop_stress,
+            self.feeder.peak_current,
+            self.feeder.action_integral,
+        ]
+        .iter()
+        .all(Option::is_none)
+    }
+}
+
+/// Limits of the closing switch. Each must be > 0 when given.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct SwitchRatings {
+    /// Largest allowed current, in amperes.
+    pub peak_current: Option<f64>,
+    /// Largest allowed rate of rise of current, in A/s.
+    pub peak_di_dt: Option<f64>,
+    /// Largest allowed charge per shot, ∫|i| dt over the run, in coulombs.
+    pub charge: Option<f64>,
+    /// Largest allowed action integral per shot, ∫i² dt over the run, in A² s.
+    pub action_integral: Option<f64>,
+    /// Largest allowed reverse current, in percent of the first current peak.
+    pub reverse_current_percent: Option<f64>,
+}
+
+/// Limits of the bank's capacitors. Each limit must be > 0 when given.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CapacitorRatings {
+    /// Rated voltage, in volts (compared with the charging voltage).
+    pub voltage: Option<f64>,
+    /// Allowed voltage reversal, in percent of the charging voltage.
+    pub voltage_reversal_percent: Option<f64>,
+    /// Largest allowed current per capacitor unit, in amperes.
+    pub peak_current: Option<f64>,
+    /// Number of equal capacitor units in parallel that share the bank current. Must be >= 1.
+    /// Default: 1 (the limit then applies to the whole bank current).
+    pub units: usize,
+}
+
+impl Default for CapacitorRatings {
+    fn default() -> Self {
+        CapacitorRatings {
+            voltage: None,
+            voltage_reversal_percent: None,
+            peak_current: None,
+            units: crate::validate::defaults::CAPACITOR_UNITS,
+        }
+    }
+}
+
+/// Limits of the forming coil.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct CoilRatings {
+    /// Allowed temperature rise of the hottest coil filament (adiabatic estimate), in kelvin.
+    pub temperature_rise: Option<f64>,
+    /// Allowed magnitude of the turn hoop stress, in pascals: `ratings.coil.allowed_hoop_stress`,
+    /// or the coil material's yield strength over `safety_factor`. `None` when the case has no
+    /// `ratings.coil` object.
+    pub allowed_hoop_stress: Option<f64>,
+    /// The safety factor the allowed hoop stress was derived with; `None` when it was given
+    /// explicitly (or not checked). Default factor: 2.
+    pub safety_factor: Option<f64>,
+}
+
+/// Limits of the feeder cable or bus. Each must be > 0 when given.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct FeederRatings {
+    /// Largest allowed current, in amperes.
+    pub peak_current: Option<f64>,
+    /// Largest allowed action integral, ∫i² dt over the run, in A² s.
+    pub action_integral: Option<f64>,
 }
 
 /// Capacitor bank with its switch, feeder and optional crowbar.
@@ -167,6 +274,56 @@ pub struct SolverSettings {
     pub abs_tol: f64,
     /// End time of the transient, in seconds. `None`: three periods of the estimated ringing.
     pub end_time: Option<f64>,
-    /// Output sampling interval, in seconds. `None`: end time / 2000.
+    /// Output sampling interval, in seconds. `None`: end time / 1000 (end time / 500 with motion).
     pub output_step: Option<f64>,
+}
+
+/// Motion of the workpiece.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct MotionSettings {
+    /// Whether the workpiece moves. Default: true when the case has a workpiece.
+    pub enabled: bool,
+    /// Radius of a rigid die (at or beyond the tube's outer surface) or mandrel (at or within
+    /// its inner surface), in metres. Default: none.
+    pub stop_radius: Option<f64>,
+    /// Flow stress law of the workpiece. Default: chosen from the material name.
+    pub flow_stress: Option<FlowStress>,
+}
+
+/// A flow stress law given in the case file.
+#[derive(Debug, Clone, PartialEq)]
+pub enum FlowStress {
+    /// A published Johnson–Cook parameter set by name.
+    JohnsonCookSet(String),
+    /// Johnson–Cook with explicit parameters.
+    JohnsonCook {
+        /// A, in Pa.
+        a: f64,
+        /// B, in Pa.
+        b: f64,
+        /// n (0, 1].
+        n: f64,
+        /// C (>= 0).
+        c: f64,
+        /// m (> 0).
+        m: f64,
+        /// Melting temperature, in K.
+        melting_point: f64,
+        /// Reference strain rate, in 1/s. Default: 1.
+        reference_rate: f64,
+    },
+    /// Power law k (ε0 + ε)ⁿ.
+    PowerLaw {
+        /// k, in Pa.
+        k: f64,
+        /// n (0, 1].
+        n: f64,
+        /// ε0 (> 0). Default: 0.002.
+        prestrain: f64,
+    },
+    /// Constant flow stress, in Pa.
+    Constant {
+        /// Flow stress, in Pa.
+        stress: f64,
+    },
 }

@@ -12,13 +12,15 @@ use std::fmt::Display;
 use serde_json::Value;
 
 use crate::file::{
-    BankFile, CaseFile, CoilFile, ConductorFile, CrowbarFile, CustomMaterialFile,
-    DiscretizationFile, FeederFile, MaterialFile, Section, SolverFile, SplitFile, TubeFile,
+    BankFile, CapacitorRatingsFile, CaseFile, CoilFile, CoilRatingsFile, ConductorFile,
+    CrowbarFile, CustomMaterialFile, DiscretizationFile, FeederFile, FeederRatingsFile,
+    MaterialFile, RatingsFile, Section, SolverFile, SplitFile, SwitchRatingsFile, TubeFile,
     Unknown,
 };
 use crate::materials;
 use crate::model::{
-    Bank, Case, Coil, Crowbar, Discretization, Material, Resolution, SolverSettings, Split, Tube,
+    Bank, CapacitorRatings, Case, Coil, CoilRatings, Crowbar, Discretization, FeederRatings,
+    Material, Ratings, Resolution, SolverSettings, Split, SwitchRatings, Tube,
 };
 use crate::units::{self, describe_value, Dimension};
 
@@ -57,6 +59,12 @@ pub mod defaults {
     pub const INITIAL_TEMPERATURE: f64 = 293.15;
     /// Reference temperature of a custom material's resistivity, in kelvin (20 °C).
     pub const REFERENCE_TEMPERATURE: f64 = crate::materials::REFERENCE_TEMPERATURE;
+    /// What a sweep of `coil.turns` keeps fixed.
+    pub const COIL_HOLD: &str = "pitch";
+    /// Capacitor units sharing the bank current (`ratings.capacitors.units`).
+    pub const CAPACITOR_UNITS: usize = 1;
+    /// Yield strength over allowed coil hoop stress (`ratings.coil.safety_factor`).
+    pub const COIL_SAFETY_FACTOR: f64 = 2.0;
 
     /// Hard upper limit of `discretization.max_filaments`: a dense inductance matrix of
     /// 20000 x 20000 `f64` takes 3.2 GB.
@@ -170,6 +178,9 @@ pub fn validate(file: &CaseFile) -> Result<(Case, Vec<String>), CaseError> {
         Range::Positive,
         defaults::INITIAL_TEMPERATURE,
     );
+    let ratings = ck.ratings(&file.ratings, coil.as_ref());
+    let motion =
+        ck.motion(&file.motion, coil.as_ref(), workpiece.as_ref().and_then(|w| w.as_ref()));
     ck.common("", &file.notes, &file.unknown, CaseFile::FIELDS);
 
     if let (Some(coil), Some(Some(tube))) = (&coil, &workpiece) {
@@ -192,7 +203,8 @@ pub fn validate(file: &CaseFile) -> Result<(Case, Vec<String>), CaseError> {
         }
         _ => None,
     };
-    match (description, bank, coil, workpiece, discretization, solver, initial_temperature) {
+    match (description, bank, coil, workpiece, discretization, solver, initial_temperature, ratings)
+    {
         (
             Some(description),
             Some(bank),
@@ -201,6 +213,7 @@ pub fn validate(file: &CaseFile) -> Result<(Case, Vec<String>), CaseError> {
             Some(discretization),
             Some(solver),
             Some(initial_temperature),
+            Some(ratings),
         ) if ck.problems.is_empty() => Ok((
             Case {
                 description,
@@ -210,6 +223,8 @@ pub fn validate(file: &CaseFile) -> Result<(Case, Vec<String>), CaseError> {
                 discretization,
                 solver,
                 initial_temperature,
+                ratings,
+                motion: motion.unwrap_or_default(),
             },
             ck.warnings,
         )),
@@ -223,6 +238,9 @@ pub fn validate(file: &CaseFile) -> Result<(Case, Vec<String>), CaseError> {
         }
     }
 }
+
+#[path = "motion_check.rs"]
+mod motion_check;
 
 /// The outcome of reading one optional field.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -667,6 +685,13 @@ impl Checker {
             self.or_default("coil.z_center", &c.z_center, Length, Range::Any, defaults::Z_CENTER);
         let material = self.material("coil.material", &c.material);
         let split = self.split("coil.split", &c.split);
+        match self.string("coil.hold", &c.hold) {
+            Got::Absent | Got::Bad | Got::Ok("pitch" | "winding_length") => {}
+            Got::Ok(other) => self.problem(
+                "coil.hold",
+                format!("must be \"pitch\" or \"winding_length\", got {}", quoted(other)),
+            ),
+        }
         self.common("coil", &c.notes, &c.unknown, CoilFile::FIELDS);
         Some(Coil {
             turns: turns?,
@@ -1114,6 +1139,178 @@ impl Checker {
             end_time: end_time?,
             output_step: output_step?,
         })
+    }
+
+    /// The `ratings` section; every limit is optional and must be > 0 when given. `coil` is
+    /// the validated coil, whose material's yield strength gives the default allowed hoop
+    /// stress.
+    fn ratings(
+        &mut self,
+        section: &Option<Section<RatingsFile>>,
+        coil: Option<&Coil>,
+    ) -> Option<Ratings> {
+        if section.is_none() {
+            return Some(Ratings::default());
+        }
+        let r = self.object("ratings", section, false)?;
+        let switch = self.switch_ratings(&r.switch);
+        let capacitors = self.capacitor_ratings(&r.capacitors);
+        let coil_ratings = self.coil_ratings(&r.coil, coil);
+        let feeder = self.feeder_ratings(&r.feeder);
+        self.common("ratings", &r.notes, &r.unknown, RatingsFile::FIELDS);
+        Some(Ratings {
+            switch: switch?,
+            capacitors: capacitors?,
+            coil: coil_ratings?,
+            feeder: feeder?,
+        })
+    }
+
+    fn switch_ratings(
+        &mut self,
+        section: &Option<Section<SwitchRatingsFile>>,
+    ) -> Option<SwitchRatings> {
+        if section.is_none() {
+            return Some(SwitchRatings::default());
+        }
+        let s = self.object("ratings.switch", section, false)?;
+        use Dimension::{Action, Charge, Current, CurrentRate, Percent};
+        let limit = |ck: &mut Checker, key: &str, v: &Option<Value>, dim: Dimension| {
+            ck.optional(&join("ratings.switch", key), v, dim, Range::Positive)
+        };
+        let peak_current = limit(self, "peak_current", &s.peak_current, Current);
+        let peak_di_dt = limit(self, "peak_di_dt", &s.peak_di_dt, CurrentRate);
+        let charge = limit(self, "charge", &s.charge, Charge);
+        let action_integral = limit(self, "action_integral", &s.action_integral, Action);
+        let reverse = limit(self, "reverse_current", &s.reverse_current, Percent);
+        self.common("ratings.switch", &s.notes, &s.unknown, SwitchRatingsFile::FIELDS);
+        Some(SwitchRatings {
+            peak_current: peak_current?,
+            peak_di_dt: peak_di_dt?,
+            charge: charge?,
+            action_integral: action_integral?,
+            reverse_current_percent: reverse?,
+        })
+    }
+
+    fn capacitor_ratings(
+        &mut self,
+        section: &Option<Section<CapacitorRatingsFile>>,
+    ) -> Option<CapacitorRatings> {
+        if section.is_none() {
+            return Some(CapacitorRatings::default());
+        }
+        let c = self.object("ratings.capacitors", section, false)?;
+        let path = |key: &str| join("ratings.capacitors", key);
+        let voltage =
+            self.optional(&path("voltage"), &c.voltage, Dimension::Voltage, Range::Positive);
+        let reversal = self.optional(
+            &path("voltage_reversal"),
+            &c.voltage_reversal,
+            Dimension::Percent,
+            Range::Positive,
+        );
+        let peak_current = self.optional(
+            &path("peak_current"),
+            &c.peak_current,
+            Dimension::Current,
+            Range::Positive,
+        );
+        let units = self.count_or_default(&path("units"), &c.units, 1, defaults::CAPACITOR_UNITS);
+        if c.units.is_some() && c.peak_current.is_none() {
+            self.warn(
+                &path("units"),
+                "has no effect without ratings.capacitors.peak_current (it divides the bank \
+                 current among the units)",
+            );
+        }
+        self.common("ratings.capacitors", &c.notes, &c.unknown, CapacitorRatingsFile::FIELDS);
+        Some(CapacitorRatings {
+            voltage: voltage?,
+            voltage_reversal_percent: reversal?,
+            peak_current: peak_current?,
+            units: units?,
+        })
+    }
+
+    /// With a `ratings.coil` object the hoop stress is always checked: against
+    /// `allowed_hoop_stress` if given, else against the coil material's yield strength over
+    /// `safety_factor` (default 2).
+    fn coil_ratings(
+        &mut self,
+        section: &Option<Section<CoilRatingsFile>>,
+        coil: Option<&Coil>,
+    ) -> Option<CoilRatings> {
+        if section.is_none() {
+            return Some(CoilRatings::default());
+        }
+        let c = self.object("ratings.coil", section, false)?;
+        let path = |key: &str| join("ratings.coil", key);
+        let rise = self.optional(
+            &path("temperature_rise"),
+            &c.temperature_rise,
+            Dimension::TemperatureDifference,
+            Range::Positive,
+        );
+        let allowed = self.quantity(
+            &path("allowed_hoop_stress"),
+            &c.allowed_hoop_stress,
+            Dimension::Stress,
+            Range::Positive,
+        );
+        let factor = self.quantity(
+            &path("safety_factor"),
+            &c.safety_factor,
+            Dimension::Dimensionless,
+            Range::AtLeast(1.0),
+        );
+        self.common("ratings.coil", &c.notes, &c.unknown, CoilRatingsFile::FIELDS);
+        if !allowed.is_absent() && !factor.is_absent() {
+            self.problem(
+                &path("safety_factor"),
+                "give either ratings.coil.allowed_hoop_stress or ratings.coil.safety_factor, \
+                 not both",
+            );
+            return None;
+        }
+        let (allowed_hoop_stress, safety_factor) = match (allowed, factor) {
+            (Got::Bad, _) | (_, Got::Bad) => return None,
+            (Got::Ok(s), _) => (Some(s), None),
+            (Got::Absent, f) => {
+                let f = match f {
+                    Got::Ok(f) => f,
+                    _ => defaults::COIL_SAFETY_FACTOR,
+                };
+                // Without a valid coil there is no yield strength; its problem is reported.
+                let yield_strength = coil?.material.yield_strength;
+                (Some(yield_strength / f), Some(f))
+            }
+        };
+        Some(CoilRatings { temperature_rise: rise?, allowed_hoop_stress, safety_factor })
+    }
+
+    fn feeder_ratings(
+        &mut self,
+        section: &Option<Section<FeederRatingsFile>>,
+    ) -> Option<FeederRatings> {
+        if section.is_none() {
+            return Some(FeederRatings::default());
+        }
+        let f = self.object("ratings.feeder", section, false)?;
+        let peak_current = self.optional(
+            "ratings.feeder.peak_current",
+            &f.peak_current,
+            Dimension::Current,
+            Range::Positive,
+        );
+        let action_integral = self.optional(
+            "ratings.feeder.action_integral",
+            &f.action_integral,
+            Dimension::Action,
+            Range::Positive,
+        );
+        self.common("ratings.feeder", &f.notes, &f.unknown, FeederRatingsFile::FIELDS);
+        Some(FeederRatings { peak_current: peak_current?, action_integral: action_integral? })
     }
 
     /// Coil turns and tube are rectangles in the r-z plane; they must neither overlap nor

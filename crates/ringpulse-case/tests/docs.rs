@@ -3,8 +3,9 @@
 #![allow(clippy::panic)]
 
 use ringpulse_case::file::{
-    BankFile, CaseFile, CoilFile, ConductorFile, CrowbarFile, CustomMaterialFile,
-    DiscretizationFile, FeederFile, SolverFile, SplitFile, TubeFile,
+    BankFile, CapacitorRatingsFile, CaseFile, CoilFile, CoilRatingsFile, ConductorFile,
+    CrowbarFile, CustomMaterialFile, DiscretizationFile, FeederFile, FeederRatingsFile,
+    RatingsFile, SolverFile, SplitFile, SwitchRatingsFile, TubeFile,
 };
 use ringpulse_case::materials::{builtin, builtin_names};
 
@@ -17,7 +18,7 @@ fn doc() -> String {
 fn every_field_is_documented() {
     let doc = doc();
     assert!(!doc.is_empty(), "docs/case-format.md is missing");
-    let lists: [&[&str]; 11] = [
+    let lists: [&[&str]; 16] = [
         CaseFile::FIELDS,
         BankFile::FIELDS,
         CrowbarFile::FIELDS,
@@ -29,6 +30,11 @@ fn every_field_is_documented() {
         CustomMaterialFile::FIELDS,
         DiscretizationFile::FIELDS,
         SolverFile::FIELDS,
+        RatingsFile::FIELDS,
+        SwitchRatingsFile::FIELDS,
+        CapacitorRatingsFile::FIELDS,
+        CoilRatingsFile::FIELDS,
+        FeederRatingsFile::FIELDS,
     ];
     for field in lists.iter().flat_map(|l| l.iter()) {
         assert!(doc.contains(&format!("`{field}`")), "field {field} is not documented");
@@ -68,6 +74,12 @@ fn defaults_and_limits_are_documented() {
         ("initial_temperature", format!("| no | {} K (20 °C) |", d::INITIAL_TEMPERATURE)),
         ("cell_over_skin_depth", format!("| no | {:.1} | > 0 |", d::CELL_OVER_SKIN_DEPTH)),
         ("output samples", format!("{:e} output samples", d::MAX_OUTPUT_SAMPLES)),
+        ("hold", format!("| `hold` | string | no | `\"{}\"` |", d::COIL_HOLD)),
+        ("units", format!("| `units` | integer | no | {} | >= 1 |", d::CAPACITOR_UNITS)),
+        (
+            "safety_factor",
+            format!("| `safety_factor` | plain number | no | {} | >= 1 |", d::COIL_SAFETY_FACTOR),
+        ),
     ] {
         assert!(doc.contains(&text), "{what}: docs/case-format.md should contain {text:?}");
     }

@@ -2,7 +2,8 @@
 //! sampling and summary; no plotting), at the default one-skin-depth resolution and in the
 //! coarse preview, plus the series-RLC reference problem of the tests.
 //!
-//! Run with `cargo bench -p ringpulse-engine --bench demos`. The engine is single-threaded, so
+//! Run with `cargo bench -p ringpulse-engine --bench demos`; `RINGPULSE_BENCH_FULL=1` adds the
+//! motion runs at default resolution (about a minute each). The engine is single-threaded, so
 //! the figures are for one core. Targets (engine issue): expansion demo at default resolution
 //! under 250 ms, its coarse preview under 10 ms. Results are recorded in docs/performance.md.
 
@@ -11,15 +12,15 @@ use std::time::Instant;
 
 use ringpulse_case::{load_case, Case, Resolution, Split};
 use ringpulse_engine::reference::{coil, simple_case};
-use ringpulse_engine::{run, RunResult};
+use ringpulse_engine::{run, run_fixed, RunResult};
 
 /// Median wall time of `repeats` runs, in seconds, and the last result.
-fn time_case(case: &Case, repeats: usize) -> Result<(f64, RunResult), String> {
+fn time_case(case: &Case, repeats: usize, motion: bool) -> Result<(f64, RunResult), String> {
     let mut times = Vec::with_capacity(repeats);
     let mut last = None;
     for _ in 0..repeats {
         let started = Instant::now();
-        let r = run(case).map_err(|e| e.to_string())?;
+        let r = if motion { run(case) } else { run_fixed(case) }.map_err(|e| e.to_string())?;
         times.push(started.elapsed().as_secs_f64());
         last = Some(r);
     }
@@ -28,8 +29,8 @@ fn time_case(case: &Case, repeats: usize) -> Result<(f64, RunResult), String> {
     Ok((times[times.len() / 2], result))
 }
 
-fn report(name: &str, case: &Case, repeats: usize) {
-    match time_case(case, repeats) {
+fn report(name: &str, case: &Case, repeats: usize, motion: bool) {
+    match time_case(case, repeats, motion) {
         Ok((t, r)) => println!(
             "{name:<44} {:>9.2} ms  filaments {:>5} (coil {:>4}, workpiece {:>4})  steps {:>5} rejected {:>3} \
              rhs {:>6}  assembly {:>7.2} ms  stepping {:>7.2} ms",
@@ -63,7 +64,7 @@ fn main() {
         coil(1, 0.03, 4e-3, 4e-3, 4e-3, Some(Split { radial: 1, axial: 1 })),
         None,
     );
-    report("reference: series RLC (1 filament)", &rlc, 5);
+    report("reference: series RLC (1 filament)", &rlc, 5, false);
     for path in paths {
         let Ok(text) = std::fs::read_to_string(&path) else { continue };
         let Ok((case, _)) = load_case(&text, &path.display().to_string()) else {
@@ -71,9 +72,16 @@ fn main() {
             continue;
         };
         let stem = path.file_stem().map_or(String::new(), |s| s.to_string_lossy().into_owned());
-        report(&format!("{stem} (default)"), &case, 5);
+        report(&format!("{stem} fixed (default)"), &case, 5, false);
         let mut coarse = case.clone();
         coarse.discretization.mode = Resolution::Coarse { tube_rings: 40 };
-        report(&format!("{stem} (coarse)"), &coarse, 5);
+        report(&format!("{stem} fixed (coarse)"), &coarse, 5, false);
+        if case.motion.enabled {
+            report(&format!("{stem} motion (coarse)"), &coarse, 3, true);
+            // One run only: a default-resolution motion run takes about a minute.
+            if std::env::var_os("RINGPULSE_BENCH_FULL").is_some() {
+                report(&format!("{stem} motion (default)"), &case, 1, true);
+            }
+        }
     }
 }

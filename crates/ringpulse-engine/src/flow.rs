@@ -204,6 +204,38 @@ mod tests {
         assert_eq!(law.flow_stress(0.1, 1.0, 1356.0), 0.0);
     }
 
+    /// Johnson–Cook check values of the project physics notes (section G, computed with the
+    /// 1983 parameter sets at T_r = 294 K), and one more evaluated by hand:
+    /// 4340 at (0.3, 1e4 1/s, 500 K): (792 + 510·0.3^0.26)(1 + 0.014 ln 1e4)(1 − ((500 − 294)/(1793 − 294))^1.03)
+    /// = (792 + 510·0.73126)·1.12894·(1 − 0.13742^1.03) = 1144.850 MPa.
+    #[test]
+    fn johnson_cook_check_values() {
+        let cu = FlowLaw::JohnsonCook(johnson_cook_set("ofhc_copper").unwrap());
+        let st = FlowLaw::JohnsonCook(johnson_cook_set("steel_4340").unwrap());
+        let cases = [
+            (&cu, 0.1, 1.0, 294.0, 233.015e6),
+            (&cu, 0.1, 1e4, 294.0, 286.669e6),
+            (&cu, 0.3, 1e4, 294.0, 358.059e6),
+            (&cu, 0.3, 1e4, 500.0, 298.136e6),
+            (&st, 0.1, 1.0, 294.0, 1072.266e6),
+            (&st, 0.1, 1e4, 294.0, 1210.529e6),
+            (&st, 0.3, 1e4, 294.0, 1315.136e6),
+            (&st, 0.3, 1e4, 500.0, 1144.850e6),
+        ];
+        for (law, e, rate, t, expected) in cases {
+            let got = law.flow_stress(e, rate, t);
+            // The check values are given to 6-7 digits.
+            assert!(
+                (got - expected).abs() < 2e-6 * expected,
+                "{got} vs {expected} at ({e}, {rate}, {t})"
+            );
+        }
+        let hand = (792e6 + 510e6 * 0.3f64.powf(0.26))
+            * (1.0 + 0.014 * 1e4f64.ln())
+            * (1.0 - ((500.0 - 294.0) / (1793.0 - 294.0f64)).powf(1.03));
+        assert!((st.flow_stress(0.3, 1e4, 500.0) - hand).abs() < 1e-9 * hand);
+    }
+
     #[test]
     fn power_law_by_hand() {
         // k (ε0 + ε)^n = 500 MPa · (0.01 + 0.09)^0.25 = 500 · 0.562341 = 281.17 MPa.

@@ -17,10 +17,14 @@ pub mod results;
 pub mod run;
 pub mod transient;
 
-pub use motion_run::{flow_law_for, run_motion, MotionOptions};
+pub use motion_run::{
+    flow_law_for, flow_law_of_case, motion_options, run_motion, run_motion_with_progress,
+    MotionOptions,
+};
 pub use results::*;
 pub use run::{
-    estimate_frequency, prepare, run, run_prepared, run_with_probes, FrequencyEstimate, Prepared,
+    estimate_frequency, prepare, run, run_fixed, run_prepared, run_with_probes, run_with_progress,
+    FrequencyEstimate, Prepared,
 };
 
 /// Errors of the engine. Each names what the engineer can change.

@@ -174,6 +174,9 @@ pub struct Evaluation {
 
 impl MovingNetwork {
     /// Prepares the moving network from the initial one.
+    // Each argument is a distinct part of the set-up (network, two materials, stop, coil limit);
+    // bundling them in a one-use struct would only move the list.
+    #[allow(clippy::too_many_arguments)]
     pub fn new(
         base: Network,
         tube_initial_wall: f64,
@@ -536,10 +539,13 @@ pub struct MotionRhs<'a> {
     last: RefCell<Option<EngineError>>,
     last_t: f64,
     last_y: Option<DVector<f64>>,
-    /// The event that stopped the segment, with its bracket (t_before, t_after).
-    pub event: Option<(Event, f64, f64)>,
+    /// The events that stopped the segment, with their bracket (t_before, t_after).
+    pub event: Option<(Vec<Event>, f64, f64)>,
     /// Smallest and largest accepted step, in seconds.
     pub dt_range: (f64, f64),
+    /// Called with (time, end time) after each accepted step.
+    progress: Option<&'a dyn Fn(f64, f64)>,
+    t_end: f64,
 }
 
 impl<'a> MotionRhs<'a> {
@@ -565,6 +571,8 @@ impl<'a> MotionRhs<'a> {
             last_y: None,
             event: None,
             dt_range: (f64::INFINITY, 0.0),
+            progress: None,
+            t_end: 0.0,
         }
     }
 
@@ -655,6 +663,8 @@ impl<'a> MotionRhs<'a> {
         dy[lay.mech + mslot::Z] = vz / ms.length;
         dy[lay.mech + mslot::VZ] = ev.axial_force / net.total_mass / ms.velocity;
         w_mech += ev.axial_force * vz;
+        // `q` indexes the ring, its state slots and four per-ring vectors at once.
+        #[allow(clippy::needless_range_loop)]
         for q in 0..net.rings.len() {
             let base_q = lay.rings + 4 * q;
             let ring = &net.rings[q];
@@ -703,31 +713,34 @@ impl<'a> MotionRhs<'a> {
         dy[lay.mech + mslot::W_INTERNAL] = w_int / sc.energy;
     }
 
-    fn detect(&self, y_prev: &DVector<f64>, y: &DVector<f64>) -> Option<Event> {
+    /// Every event whose condition changed over the last step (several rings may reach the
+    /// stop in one step; the caller locates each and takes the earliest).
+    fn detect(&self, y_prev: &DVector<f64>, y: &DVector<f64>) -> Vec<Event> {
         let lay = self.net.layout();
+        let mut out = Vec::new();
         if self.watch_crowbar
             && !self.flags.crowbarred
             && y_prev[lay.nl + slot::V] > 0.0
             && y[lay.nl + slot::V] <= 0.0
         {
-            return Some(Event::Crowbar);
+            out.push(Event::Crowbar);
         }
         for q in 0..self.net.rings.len() {
             if self.flags.held[q] {
                 continue;
             }
             if let Some(g) = self.net.stop_gap(q, y, &self.ms) {
-                if g <= 0.0 && self.net.stop_gap(q, y_prev, &self.ms).is_some_and(|g0| g0 > 0.0) {
-                    return Some(Event::Stop(q));
+                if g <= 0.0 {
+                    out.push(Event::Stop(q));
                 }
             }
             if let Some(g) = self.net.coil_gap(q, y, &self.ms) {
                 if g <= 0.0 {
-                    return Some(Event::CoilContact(q));
+                    out.push(Event::CoilContact(q));
                 }
             }
         }
-        None
+        out
     }
 }
 
@@ -769,16 +782,20 @@ impl System<f64, DVector<f64>> for &mut MotionRhs<'_> {
         if !y.iter().all(|v| v.is_finite()) || self.last.borrow().is_some() {
             return true;
         }
-        let stop = match self.last_y.as_ref() {
+        let events = match self.last_y.as_ref() {
             Some(prev) => self.detect(prev, y),
-            None => None,
+            None => Vec::new(),
         };
-        if let Some(e) = stop {
-            self.event = Some((e, self.last_t, t));
+        let stop = !events.is_empty();
+        if stop {
+            self.event = Some((events, self.last_t, t));
         }
         self.last_t = t;
         self.last_y = Some(y.clone());
-        stop.is_some()
+        if let Some(report) = self.progress {
+            report(t, self.t_end);
+        }
+        stop
     }
 }
 
@@ -798,8 +815,8 @@ pub struct MotionSegment {
     pub counts: (u64, u64, u64),
     /// Smallest and largest accepted step, in seconds.
     pub dt_range: (f64, f64),
-    /// The event that ended it, with its bracket.
-    pub event: Option<(Event, f64, f64)>,
+    /// The events that ended it, with their bracket.
+    pub event: Option<(Vec<Event>, f64, f64)>,
 }
 
 impl MotionSegment {
@@ -825,9 +842,12 @@ pub fn integrate_motion_segment(
     t1: f64,
     y0: DVector<f64>,
     settings: &StepperSettings,
+    progress: Option<&dyn Fn(f64, f64)>,
 ) -> Result<MotionSegment, EngineError> {
     let mut rhs = MotionRhs::new(net, circuit, scales, ms, flags.clone(), watch_crowbar, t0);
     rhs.last_y = Some(y0.clone());
+    rhs.progress = progress;
+    rhs.t_end = t1;
     let mut model = ContinuousOutputModel::default();
     let outcome = {
         let mut stepper = Dopri5::from_param(
@@ -854,7 +874,7 @@ pub fn integrate_motion_segment(
         return Err(e);
     }
     let stats = outcome.map_err(|e| EngineError::Solver { message: e.to_string() })?;
-    let t_end = rhs.event.map_or(t1, |(_, _, tb)| tb);
+    let t_end = rhs.event.as_ref().map_or(t1, |(_, _, tb)| *tb);
     Ok(MotionSegment {
         t_start: t0,
         t_end,
@@ -867,6 +887,6 @@ pub fn integrate_motion_segment(
             u64::from(stats.num_eval),
         ),
         dt_range: rhs.dt_range,
-        event: rhs.event,
+        event: rhs.event.take(),
     })
 }

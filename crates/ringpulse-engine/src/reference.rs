@@ -5,7 +5,8 @@
 //! small, fully specified cases in code so that tests do not depend on files.
 
 use ringpulse_case::{
-    Bank, Case, Coil, Discretization, Material, Resolution, SolverSettings, Split, Tube,
+    Bank, Case, Coil, Discretization, Material, MotionSettings, Ratings, Resolution,
+    SolverSettings, Split, Tube,
 };
 
 /// An underdamped series RLC discharge: C charged to V0, switch closed at t = 0.
@@ -116,6 +117,8 @@ pub fn simple_case(
         },
         solver: SolverSettings { rel_tol: 1e-7, abs_tol: 1e-9, end_time: None, output_step: None },
         initial_temperature: 293.15,
+        ratings: Ratings::default(),
+        motion: MotionSettings::default(),
     }
 }
 

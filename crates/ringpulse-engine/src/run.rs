@@ -216,8 +216,28 @@ fn observe_batch(
     out
 }
 
-/// Runs a case end to end and returns its traces, summary and statistics.
+/// Runs a case end to end and returns its traces, summary and statistics: with the workpiece
+/// moving when the case asks for motion (the default with a workpiece), else at fixed geometry.
 pub fn run(case: &Case) -> Result<RunResult, EngineError> {
+    run_with_progress(case, None)
+}
+
+/// [`run()`] reporting (simulated time, end time) in seconds as a motion run advances.
+pub fn run_with_progress(
+    case: &Case,
+    progress: Option<&dyn Fn(f64, f64)>,
+) -> Result<RunResult, EngineError> {
+    let prepared = prepare(case)?;
+    if case.motion.enabled && case.workpiece.is_some() {
+        let options = crate::motion_run::motion_options(case);
+        crate::motion_run::run_motion_with_progress(case, prepared, &options, progress)
+    } else {
+        run_prepared(case, prepared)
+    }
+}
+
+/// Runs a case at fixed geometry whatever its motion setting.
+pub fn run_fixed(case: &Case) -> Result<RunResult, EngineError> {
     let prepared = prepare(case)?;
     run_prepared(case, prepared)
 }

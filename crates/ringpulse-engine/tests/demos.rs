@@ -1,5 +1,7 @@
-//! Every demo case in cases/: positive definite inductance matrix, closed energy account and a
-//! converged default discretization.
+//! Every demo case in cases/, at fixed geometry: positive definite inductance matrix, closed
+//! energy account and a converged default discretization. (With motion, .ci/run checks the
+//! energy account of every demo at its default resolution through the binary, and
+//! tests/motion.rs checks the demos in the coarse preview.)
 //!
 //! The thresholds come from the engine issue: energy residual below 1e-4 of ½CV0², and peak
 //! coil current, time of peak and peak workpiece force changing by less than 2 % between the
@@ -12,7 +14,7 @@ use std::path::PathBuf;
 
 use nalgebra::Cholesky;
 use ringpulse_case::{load_case, Case, Resolution};
-use ringpulse_engine::{prepare, run, run_prepared};
+use ringpulse_engine::{prepare, run_fixed, run_prepared};
 
 fn demo_paths() -> Vec<PathBuf> {
     let dir = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../../cases");
@@ -52,7 +54,7 @@ fn demo_inductance_matrices_are_positive_definite() {
 fn demo_energy_accounts_close() {
     for path in demo_paths() {
         let case = load(&path);
-        let r = run(&case).unwrap();
+        let r = run_fixed(&case).unwrap();
         let e = &r.summary.energy;
         assert!(
             e.relative_residual.abs() < 1e-4,
@@ -75,7 +77,7 @@ fn demo_energy_accounts_close() {
 fn default_discretization_is_converged() {
     for path in demo_paths() {
         let case = load(&path);
-        let coarse = run(&case).unwrap();
+        let coarse = run_fixed(&case).unwrap();
         let mut fine_case = case.clone();
         fine_case.discretization.mode = Resolution::SkinDepth { cell_over_skin_depth: 0.5 };
         let fine = run_prepared(&fine_case, prepare(&fine_case).unwrap()).unwrap();

@@ -13,6 +13,7 @@ use sha2::{Digest, Sha256};
 pub mod motion_out;
 pub mod plots;
 pub mod report;
+pub mod study;
 pub mod tables;
 
 pub use report::{eng, format_report};
@@ -101,7 +102,8 @@ pub(crate) fn io_err(path: &Path) -> impl FnOnce(std::io::Error) -> OutputError 
 }
 
 /// Writes timeseries.csv, rings.csv, summary.json and the plots of a run into `out_dir`;
-/// with motion also motion.csv, profile.csv and the motion and profile plots.
+/// with motion, rings.csv gains velocity, strain and temperature columns and profile.csv and
+/// the motion and profile plots are added.
 ///
 /// All files are first written into `<out_dir>.partial-<pid>` beside it and moved into
 /// `out_dir` (created if needed; files of the same names are replaced, others left alone)
@@ -123,7 +125,6 @@ pub fn write_run(
         }
         let motion = result.summary.motion.as_ref().filter(|_| motion_out::has_motion(result));
         if let Some(m) = motion {
-            files.push(motion_out::write_motion_table(&tmp.join("motion.csv"), result)?);
             files.push(motion_out::write_profile(
                 &tmp.join("profile.csv"),
                 result,

@@ -1,5 +1,6 @@
-//! Output of the workpiece motion: motion.csv, profile.csv and the radius, velocity and final
-//! profile plots. Written only when the run had motion (ring histories present).
+//! Output of the workpiece motion: profile.csv and the displacement, velocity and final profile
+//! plots. Written only when the run had motion (ring histories present); the per-ring histories
+//! go into rings.csv (tables.rs).
 
 use std::path::{Path, PathBuf};
 
@@ -10,10 +11,6 @@ use crate::plots::{figure, Panel, Series};
 use crate::tables::num;
 use crate::{io_err, OutputError};
 
-/// Header of motion.csv.
-pub const MOTION_HEADER: &str =
-    "time_s,ring,z_m,radius_m,velocity_m_per_s,hoop_strain,temperature_K";
-
 /// Header of profile.csv.
 pub const PROFILE_HEADER: &str =
     "z_m,initial_radius_m,final_radius_m,final_inner_surface_m,final_outer_surface_m,displacement_m,stop_radius_m";
@@ -21,33 +18,6 @@ pub const PROFILE_HEADER: &str =
 /// Whether a result carries motion histories.
 pub fn has_motion(r: &RunResult) -> bool {
     !r.rings.radius_history.is_empty()
-}
-
-/// Writes motion.csv (long format, one row per ring sample and ring).
-pub fn write_motion_table(path: &Path, r: &RunResult) -> Result<PathBuf, OutputError> {
-    let g = &r.rings;
-    let mut body = String::new();
-    body.push_str(MOTION_HEADER);
-    body.push('\n');
-    for (s, &t) in g.time.iter().enumerate() {
-        for ring in 0..g.z.len() {
-            let z = g.z_history.get(s).and_then(|row| row.get(ring)).copied().unwrap_or(g.z[ring]);
-            let cell = |m: &Vec<Vec<f64>>| {
-                m.get(s).and_then(|row| row.get(ring)).copied().unwrap_or(f64::NAN)
-            };
-            body.push_str(&format!(
-                "{},{ring},{},{},{},{},{}\n",
-                num(t),
-                num(z),
-                num(cell(&g.radius_history)),
-                num(cell(&g.velocity)),
-                num(cell(&g.strain)),
-                num(cell(&g.temperature))
-            ));
-        }
-    }
-    std::fs::write(path, body).map_err(io_err(path))?;
-    Ok(path.to_path_buf())
 }
 
 /// Writes profile.csv: initial and final radius along the workpiece, with the stop radius.

@@ -13,11 +13,13 @@ use ringpulse_engine::RunResult;
 
 use crate::OutputError;
 
-const SIZE: (u32, u32) = (1200, 800);
+/// Size of a one-panel figure, in pixels.
+pub(crate) const SIZE: (u32, u32) = (1200, 800);
 
 static FONTS: Once = Once::new();
 
-fn register_fonts() {
+/// Registers the DejaVu fonts with plotters, once; needed before any text is drawn.
+pub(crate) fn register_fonts() {
     FONTS.call_once(|| {
         // ab_glyph needs the fonts registered before any text is drawn (SVG too).
         let _ = plotters::style::register_font(
@@ -44,7 +46,8 @@ pub(crate) struct Panel {
     pub(crate) series: Vec<Series>,
 }
 
-fn range(values: impl Iterator<Item = f64>) -> (f64, f64) {
+/// Axis range of the finite values, padded by 5 %; a small default for empty or constant data.
+pub(crate) fn range(values: impl Iterator<Item = f64>) -> (f64, f64) {
     let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
     for v in values.filter(|v| v.is_finite()) {
         lo = lo.min(v);

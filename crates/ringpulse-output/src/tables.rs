@@ -21,6 +21,10 @@ radial_force_N,axial_force_N,peak_pressure_Pa";
 pub const RINGS_HEADER: &str =
     "time_s,ring,r_m,z_m,current_A,current_density_A_per_m2,pressure_Pa,axial_force_N";
 
+/// Extra columns of rings.csv when the workpiece moves (r_m and z_m are then the current
+/// position).
+pub const RINGS_MOTION_COLUMNS: &str = ",velocity_m_per_s,hoop_strain,temperature_K";
+
 fn create(path: &Path) -> Result<BufWriter<File>, OutputError> {
     File::create(path).map(BufWriter::new).map_err(io_err(path))
 }

@@ -1,9 +1,13 @@
 //! The `ringpulse` command line: read a case, run the engine, write results, print a report.
 //!
-//! Exit codes (also in README.md): 0 success; 2 invalid input (command line, case file, or a
-//! discretization the engine refuses);
-//! 3 a ratings check failed (reserved for `check`); 4 the simulation failed; 5 the output could
-//! not be written. Errors go to standard error as `error: ...` with one line per problem.
+//! Exit codes (also in README.md and docs/study.md): 0 success; 2 invalid input (command line,
+//! case file, or a discretization the engine refuses); 3 a rating fails (`check`; `size` when
+//! the target is met only by breaking a rating); 4 the simulation failed; 5 the output could
+//! not be written; 6 `size` cannot meet the target within the range. Errors go to standard
+//! error as `error: ...` with one line per problem. The study subcommands live in
+//! [`study`].
+
+mod study;
 
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
@@ -16,10 +20,14 @@ use ringpulse_output::{case_hash, format_report, write_run, RunMeta, WriteOption
 
 /// Exit code: invalid input.
 const EXIT_INPUT: u8 = 2;
+/// Exit code: a rating fails.
+const EXIT_RATINGS: u8 = 3;
 /// Exit code: the simulation failed.
 const EXIT_SIMULATION: u8 = 4;
 /// Exit code: output could not be written.
 const EXIT_OUTPUT: u8 = 5;
+/// Exit code: `size` cannot meet the target within the range.
+const EXIT_UNREACHABLE: u8 = 6;
 
 #[derive(Parser, Debug)]
 #[command(
@@ -53,6 +61,115 @@ enum Command {
         /// Do not draw plots.
         #[arg(long)]
         no_plots: bool,
+        /// Print only errors and warnings.
+        #[arg(long, short)]
+        quiet: bool,
+    },
+    /// Run a case and check it against its ratings; write ratings.json. Exit 3 if a rating fails.
+    Check {
+        /// Case file (JSON) with a "ratings" section.
+        case: PathBuf,
+        /// Output directory (created; ratings.json in it is replaced).
+        #[arg(long, short, default_value = "out")]
+        out: PathBuf,
+        /// Quick preview resolution.
+        #[arg(long)]
+        coarse: bool,
+        /// Print only errors, warnings and failing ratings.
+        #[arg(long, short)]
+        quiet: bool,
+    },
+    /// Run variants of a case over a grid or a Latin-hypercube sample; write sweep.csv,
+    /// sweep.json and plots (or one shard's part).
+    Sweep {
+        /// Case file (JSON).
+        case: PathBuf,
+        /// PATH=VALUES: a numeric field by its dotted path and a list a,b,c, an integer range
+        /// lo..hi or a range with a count lo..hi:n; units allowed (bank.voltage=4kV..10kV:7).
+        #[arg(long, value_name = "PATH=VALUES", required = true)]
+        vary: Vec<String>,
+        /// Latin-hypercube sample of this many points instead of the full factorial.
+        #[arg(long, value_name = "K")]
+        lhs: Option<usize>,
+        /// Seed of the Latin-hypercube sample.
+        #[arg(long, default_value_t = 1)]
+        seed: u64,
+        /// Output directory (created; files of the same names are replaced).
+        #[arg(long, short, default_value = "out")]
+        out: PathBuf,
+        /// Run every variant in the quick preview resolution.
+        #[arg(long)]
+        coarse: bool,
+        /// Run only shard I of N (1-based; variant k goes to shard k mod N + 1); writes
+        /// sweep.part-I-of-N.csv.
+        #[arg(long, value_name = "I/N")]
+        shard: Option<String>,
+        /// Read the shard index from this environment variable (a job-array index).
+        #[arg(long, value_name = "VAR")]
+        shard_from_env: Option<String>,
+        /// Number of shards, with --shard-from-env.
+        #[arg(long, value_name = "N")]
+        shards: Option<usize>,
+        /// Index of the first shard in the environment variable: 1 (default) or 0.
+        #[arg(long, value_name = "0|1", default_value_t = 1)]
+        shard_index_base: usize,
+        /// Metrics to plot against each varied parameter, comma separated.
+        #[arg(long, value_name = "METRICS", default_value = study::DEFAULT_PLOTS)]
+        plot: String,
+        /// Do not draw plots.
+        #[arg(long)]
+        no_plots: bool,
+        /// Worker threads (default: one per core). Results do not depend on it.
+        #[arg(long, value_name = "N")]
+        jobs: Option<usize>,
+        /// Print only errors and warnings.
+        #[arg(long, short)]
+        quiet: bool,
+    },
+    /// Join the sweep.part-I-of-N files of a sharded sweep into sweep.csv, sweep.json and plots.
+    Merge {
+        /// Part CSV files, or directories holding them.
+        #[arg(required = true)]
+        inputs: Vec<PathBuf>,
+        /// Output directory.
+        #[arg(long, short, default_value = "out")]
+        out: PathBuf,
+        /// Metrics to plot against each varied parameter, comma separated.
+        #[arg(long, value_name = "METRICS", default_value = study::DEFAULT_PLOTS)]
+        plot: String,
+        /// Do not draw plots.
+        #[arg(long)]
+        no_plots: bool,
+        /// Print only errors.
+        #[arg(long, short)]
+        quiet: bool,
+    },
+    /// Find the smallest charging voltage or capacitance that meets a target; write size.json.
+    Size {
+        /// Case file (JSON).
+        case: PathBuf,
+        /// NAME=VALUE: peak_pressure, peak_coil_current, peak_radial_force, peak_axial_force or
+        /// peak_workpiece_current, e.g. peak_pressure=150MPa.
+        #[arg(long, value_name = "NAME=VALUE")]
+        target: String,
+        /// bank.voltage or bank.capacitance.
+        #[arg(long, value_name = "PATH", default_value = "bank.voltage")]
+        adjust: String,
+        /// Range of the adjusted value, LO..HI (default: a tenth to ten times the case's).
+        #[arg(long, value_name = "LO..HI")]
+        range: Option<String>,
+        /// Size the voltage for each of these capacitances and rank them by stored energy.
+        #[arg(long, value_name = "C1,C2,...")]
+        capacitances: Option<String>,
+        /// Relative tolerance on the adjusted value (default 1e-3).
+        #[arg(long, value_name = "TOL")]
+        rel_tol: Option<f64>,
+        /// Quick preview resolution for every run.
+        #[arg(long)]
+        coarse: bool,
+        /// Output directory (created; size.json in it is replaced).
+        #[arg(long, short, default_value = "out")]
+        out: PathBuf,
         /// Print only errors and warnings.
         #[arg(long, short)]
         quiet: bool,
@@ -101,6 +218,62 @@ fn execute(cli: Cli) -> Result<(), Failure> {
             run(&case, &out, coarse, refine, !no_plots, quiet)
         }
         Command::New { path, force } => new_case(path.as_deref(), force),
+        Command::Check { case, out, coarse, quiet } => study::check(&case, &out, coarse, quiet),
+        Command::Sweep {
+            case,
+            vary,
+            lhs,
+            seed,
+            out,
+            coarse,
+            shard,
+            shard_from_env,
+            shards,
+            shard_index_base,
+            plot,
+            no_plots,
+            jobs,
+            quiet,
+        } => study::sweep(study::SweepArgs {
+            case,
+            vary,
+            lhs,
+            seed,
+            out,
+            coarse,
+            shard,
+            shard_from_env,
+            shards,
+            shard_index_base,
+            plot,
+            no_plots,
+            jobs,
+            quiet,
+        }),
+        Command::Merge { inputs, out, plot, no_plots, quiet } => {
+            study::merge(&inputs, &out, &plot, no_plots, quiet)
+        }
+        Command::Size {
+            case,
+            target,
+            adjust,
+            range,
+            capacitances,
+            rel_tol,
+            coarse,
+            out,
+            quiet,
+        } => study::size_cmd(study::SizeArgs {
+            case,
+            target,
+            adjust,
+            range,
+            capacitances,
+            rel_tol,
+            coarse,
+            out,
+            quiet,
+        }),
     }
 }
 
@@ -145,14 +318,7 @@ fn run(
         eprintln!("ringpulse {}: {}", env!("CARGO_PKG_VERSION"), case.description);
         eprintln!("caution: high-voltage capacitor banks are lethal; this is a design aid, not a safety assessment");
     }
-    let mut result = ringpulse_engine::run(&case).map_err(|e| {
-        // A split the engine refuses is a problem of the input; a failing stepper is not.
-        let code = match e {
-            EngineError::Solver { .. } => EXIT_SIMULATION,
-            _ => EXIT_INPUT,
-        };
-        fail(code, e)
-    })?;
+    let mut result = ringpulse_engine::run(&case).map_err(engine_failure)?;
     let mut warnings = case_warnings;
     warnings.append(&mut result.warnings);
     result.warnings = warnings;
@@ -164,15 +330,35 @@ fn run(
     };
     let written = write_run(out, &meta, &result, &WriteOptions { plots })
         .map_err(|e| fail(EXIT_OUTPUT, e))?;
+    let ratings = (!case.ratings.is_empty()).then(|| ringpulse_study::evaluate(&case, &result));
     if quiet {
         for w in &result.warnings {
             eprintln!("warning: {w}");
         }
+        for c in ratings.iter().flat_map(|r| r.checks.iter()).filter(|c| !c.passes()) {
+            eprintln!(
+                "warning: rating fails: {} ({} > {} {})",
+                c.quantity, c.value, c.limit, c.unit
+            );
+        }
     } else {
         println!("{}", format_report(&meta, &result));
+        if let Some(r) = &ratings {
+            println!("{}", ringpulse_output::study::format_ratings_table(r));
+        }
         println!("wrote {} files to \"{}\"", written.len(), out.display());
     }
     Ok(())
+}
+
+/// The exit code of an engine error: a split the engine refuses is a problem of the input; a
+/// failing stepper is not.
+fn engine_failure(e: EngineError) -> Failure {
+    let code = match e {
+        EngineError::Solver { .. } => EXIT_SIMULATION,
+        _ => EXIT_INPUT,
+    };
+    fail(code, e)
 }
 
 fn new_case(path: Option<&Path>, force: bool) -> Result<(), Failure> {

@@ -1,0 +1,188 @@
+//! The scalar results of a run that sweeps report and sizing aims at, by column name.
+//!
+//! Column names carry their unit (`peak_coil_current_A`) and match the keys of the engine's
+//! summary.json where one exists. A metric without a value for a run (no workpiece, no
+//! current zero in the run) is `None`, written as an empty CSV cell. No wall-time metric is
+//! listed: a sweep's CSV must be the same bytes whichever machine or shard computed a row.
+
+use ringpulse_case::Case;
+use ringpulse_engine::RunResult;
+
+use crate::ratings::reverse_current_percent;
+
+/// One scalar result of a run.
+#[derive(Clone, Copy)]
+pub struct Metric {
+    /// Column name with unit suffix.
+    pub name: &'static str,
+    /// What it is, for docs and messages.
+    pub about: &'static str,
+    /// Its value for a run of a case.
+    pub value: fn(&Case, &RunResult) -> Option<f64>,
+}
+
+impl std::fmt::Debug for Metric {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.name)
+    }
+}
+
+fn finite(x: f64) -> Option<f64> {
+    x.is_finite().then_some(x)
+}
+
+fn has_workpiece(case: &Case) -> bool {
+    case.workpiece.is_some()
+}
+
+/// Every metric of a sweep row, in column order.
+pub const METRICS: &[Metric] = &[
+    Metric {
+        name: "peak_coil_current_A",
+        about: "largest absolute coil current",
+        value: |_, r| finite(r.summary.peak_coil_current),
+    },
+    Metric {
+        name: "time_of_peak_current_s",
+        about: "time of the largest absolute coil current",
+        value: |_, r| finite(r.summary.time_of_peak_current),
+    },
+    Metric {
+        name: "first_current_zero_s",
+        about: "first zero of the coil current after its peak",
+        value: |_, r| r.summary.first_current_zero,
+    },
+    Metric {
+        name: "ringing_frequency_Hz",
+        about: "ringing frequency from the current zeros",
+        value: |_, r| r.summary.ringing_frequency,
+    },
+    Metric {
+        name: "peak_di_dt_A_per_s",
+        about: "largest absolute rate of rise of the coil current",
+        value: |_, r| finite(r.summary.peak_di_dt),
+    },
+    Metric {
+        name: "charge_C",
+        about: "charge through the switch, integral of |i| dt over the run",
+        value: |_, r| finite(r.summary.charge),
+    },
+    Metric {
+        name: "action_integral_A2s",
+        about: "action integral of the coil current, integral of i^2 dt over the run",
+        value: |_, r| finite(r.summary.action_integral),
+    },
+    Metric {
+        name: "voltage_reversal_percent",
+        about: "largest negative capacitor voltage, percent of the charging voltage",
+        value: |_, r| finite(r.summary.voltage_reversal_percent),
+    },
+    Metric {
+        name: "reverse_current_percent",
+        about: "largest current opposite to the first peak, percent of that peak",
+        value: |_, r| {
+            let s = &r.summary;
+            finite(reverse_current_percent(&r.traces, s.peak_coil_current, s.time_of_peak_current))
+        },
+    },
+    Metric {
+        name: "peak_workpiece_current_A",
+        about: "largest absolute net workpiece current",
+        value: |c, r| has_workpiece(c).then_some(r.summary.peak_workpiece_current),
+    },
+    Metric {
+        name: "peak_pressure_Pa",
+        about: "largest magnetic pressure on any workpiece ring",
+        value: |_, r| r.summary.peak_pressure.as_ref().map(|p| p.value),
+    },
+    Metric {
+        name: "peak_radial_force_N",
+        about: "largest absolute net radial force on the workpiece",
+        value: |c, r| has_workpiece(c).then_some(r.summary.peak_radial_force),
+    },
+    Metric {
+        name: "peak_axial_force_N",
+        about: "largest absolute net axial force on the workpiece",
+        value: |c, r| has_workpiece(c).then_some(r.summary.peak_axial_force),
+    },
+    Metric {
+        name: "peak_coil_hoop_stress_Pa",
+        about: "largest turn hoop stress, signed (tension positive)",
+        value: |_, r| finite(r.summary.peak_coil_hoop_stress),
+    },
+    Metric {
+        name: "peak_coil_pressure_Pa",
+        about: "largest net radial magnetic force per face area of a turn",
+        value: |_, r| finite(r.summary.peak_coil_pressure),
+    },
+    Metric {
+        name: "peak_coil_temperature_K",
+        about: "hottest coil filament at the end, adiabatic estimate",
+        value: |_, r| finite(r.summary.peak_coil_temperature),
+    },
+    Metric {
+        name: "peak_workpiece_temperature_K",
+        about: "hottest workpiece filament at the end, adiabatic estimate",
+        value: |_, r| r.summary.peak_workpiece_temperature,
+    },
+    Metric {
+        name: "energy_initial_J",
+        about: "stored bank energy 0.5 C V0^2",
+        value: |_, r| finite(r.summary.energy.initial),
+    },
+    Metric {
+        name: "energy_coil_J",
+        about: "energy dissipated in the coil",
+        value: |_, r| finite(r.summary.energy.coil),
+    },
+    Metric {
+        name: "energy_workpiece_J",
+        about: "energy dissipated in the workpiece",
+        value: |_, r| finite(r.summary.energy.workpiece),
+    },
+    Metric {
+        name: "energy_relative_residual",
+        about: "energy account residual over the stored energy (solver error)",
+        value: |_, r| finite(r.summary.energy.relative_residual),
+    },
+    Metric {
+        name: "coil_inductance_H",
+        about: "self-inductance of the coil alone",
+        value: |_, r| finite(r.mesh.coil_inductance),
+    },
+    Metric {
+        name: "filaments",
+        about: "filaments of coil and workpiece",
+        value: |_, r| Some((r.mesh.coil_filaments + r.mesh.workpiece_filaments) as f64),
+    },
+];
+
+/// The metric of a column name.
+pub fn metric(name: &str) -> Option<&'static Metric> {
+    METRICS.iter().find(|m| m.name == name)
+}
+
+/// Every metric's value for one run, in column order.
+pub fn values(case: &Case, result: &RunResult) -> Vec<Option<f64>> {
+    METRICS.iter().map(|m| (m.value)(case, result)).collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn names_are_unique_and_carry_units() {
+        for (k, m) in METRICS.iter().enumerate() {
+            assert!(METRICS[..k].iter().all(|o| o.name != m.name), "duplicate {}", m.name);
+            let unitless = ["energy_relative_residual", "filaments"];
+            assert!(
+                unitless.contains(&m.name) || m.name.contains('_'),
+                "{} has no unit suffix",
+                m.name
+            );
+        }
+        assert!(metric("peak_pressure_Pa").is_some());
+        assert!(metric("peak_pressure").is_none());
+    }
+}

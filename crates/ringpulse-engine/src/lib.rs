@@ -23,8 +23,8 @@ pub use motion_run::{
 };
 pub use results::*;
 pub use run::{
-    estimate_frequency, prepare, run, run_fixed, run_prepared, run_with_probes, run_with_progress,
-    FrequencyEstimate, Prepared,
+    estimate_frequency, prepare, run, run_fixed, run_prepared, run_prepared_as_case,
+    run_with_probes, run_with_progress, FrequencyEstimate, Prepared,
 };
 
 /// Errors of the engine. Each names what the engineer can change.

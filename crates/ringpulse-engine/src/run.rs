@@ -228,6 +228,17 @@ pub fn run_with_progress(
     progress: Option<&dyn Fn(f64, f64)>,
 ) -> Result<RunResult, EngineError> {
     let prepared = prepare(case)?;
+    run_prepared_as_case(case, prepared, progress)
+}
+
+/// Runs a prepared case (see [`prepare`]) the way [`run()`] would: moving when the case asks
+/// for motion and has a workpiece, else at fixed geometry. `progress` as in
+/// [`run_with_progress`].
+pub fn run_prepared_as_case(
+    case: &Case,
+    prepared: Prepared,
+    progress: Option<&dyn Fn(f64, f64)>,
+) -> Result<RunResult, EngineError> {
     if case.motion.enabled && case.workpiece.is_some() {
         let options = crate::motion_run::motion_options(case);
         crate::motion_run::run_motion_with_progress(case, prepared, &options, progress)
@@ -242,7 +253,7 @@ pub fn run_fixed(case: &Case) -> Result<RunResult, EngineError> {
     run_prepared(case, prepared)
 }
 
-/// Runs a prepared case (see [`prepare`]).
+/// Runs a prepared case (see [`prepare`]) at fixed geometry, whatever its motion setting.
 pub fn run_prepared(case: &Case, prepared: Prepared) -> Result<RunResult, EngineError> {
     run_with_probes(case, prepared, &[])
 }

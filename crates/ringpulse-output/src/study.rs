@@ -157,6 +157,8 @@ pub struct SweepMeta {
     pub lhs: Option<(usize, u64)>,
     /// True when every variant ran in coarse resolution.
     pub coarse: bool,
+    /// True when every variant ran with the workpiece held fixed (`--fixed`).
+    pub fixed: bool,
     /// Variants of the whole sweep.
     pub variants_total: usize,
     /// This file's shard (1-based) and the number of shards; `None` for a whole sweep.
@@ -165,6 +167,17 @@ pub struct SweepMeta {
     pub threads: usize,
     /// Wall time of the runs, in seconds.
     pub wall_time: f64,
+}
+
+/// The `resolution` entry of ratings.json, size.json and sweep.json: `"case"` (the case's own
+/// discretization) or `"coarse"`, with `", no motion"` when `--fixed` held the workpiece.
+pub fn resolution_label(coarse: bool, fixed: bool) -> &'static str {
+    match (coarse, fixed) {
+        (false, false) => "case",
+        (true, false) => "coarse",
+        (false, true) => "case, no motion",
+        (true, true) => "coarse, no motion",
+    }
 }
 
 fn sweep_meta_value(meta: &SweepMeta, rows: &[Row]) -> Value {
@@ -179,7 +192,7 @@ fn sweep_meta_value(meta: &SweepMeta, rows: &[Row]) -> Value {
             d.insert("lhs_points".into(), json!(points));
             d.insert("seed".into(), json!(seed));
         }
-        d.insert("resolution".into(), json!(if meta.coarse { "coarse" } else { "case" }));
+        d.insert("resolution".into(), json!(resolution_label(meta.coarse, meta.fixed)));
         d.insert("variants_total".into(), json!(meta.variants_total));
         d.insert("shard".into(), json!(meta.shard.map(|s| s.0)));
         d.insert("shards".into(), json!(meta.shard.map_or(1, |s| s.1)));
@@ -312,8 +325,9 @@ impl Table {
 
 /// The display unit of a column from its suffix: `peak_pressure_Pa` → `Pa`.
 fn column_unit(column: &str) -> &'static str {
-    const SUFFIXES: [(&str, &str); 24] = [
+    const SUFFIXES: [(&str, &str); 25] = [
         ("_A_per_s", "A/s"),
+        ("_m_per_s", "m/s"),
         ("_A2s", "A²s"),
         ("_percent", "%"),
         ("_Ohm_m", "Ω m"),
@@ -759,6 +773,17 @@ fn target_unit(s: &Sizing) -> &'static str {
     column_unit(s.target.target.column())
 }
 
+/// A target quantity for the terminal: with an engineering prefix and unit, or a strain in
+/// percent (a bare "m" would read as metres).
+fn target_text(s: &Sizing, v: f64) -> String {
+    let unit = target_unit(s);
+    if unit.is_empty() {
+        format!("{:.3} %", v * 100.0)
+    } else {
+        eng(v, unit)
+    }
+}
+
 /// The text printed by `size`: for each option the value found (or why none), the energy and
 /// the ratings status; several options are ranked by stored energy.
 pub fn format_sizing(sizings: &[Sizing]) -> String {
@@ -769,7 +794,7 @@ pub fn format_sizing(sizings: &[Sizing]) -> String {
         "sizing: smallest {} that gives {} >= {}\n",
         first.adjust.path(),
         t.target.name(),
-        eng(t.value, target_unit(first))
+        target_text(first, t.value)
     ));
     out.push_str(&format!(
         "  range {} .. {}, relative tolerance {:e}\n",
@@ -793,7 +818,7 @@ pub fn format_sizing(sizings: &[Sizing]) -> String {
                     s.adjust.path(),
                     adjusted(s, p.value),
                     t.target.name(),
-                    eng(p.metric, target_unit(s)),
+                    target_text(s, p.metric),
                     s.evaluations.len()
                 ));
                 if p.below.is_none() {
@@ -842,7 +867,7 @@ pub fn format_sizing(sizings: &[Sizing]) -> String {
                     "  the target cannot be met within the range: the largest {} found is {} at \
                      {} = {}\n",
                     t.target.name(),
-                    eng(*best_metric, target_unit(s)),
+                    target_text(s, *best_metric),
                     s.adjust.path(),
                     adjusted(s, *best_value)
                 ));

@@ -31,6 +31,10 @@ fn finite(x: f64) -> Option<f64> {
     x.is_finite().then_some(x)
 }
 
+fn motion(r: &RunResult) -> Option<&ringpulse_engine::MotionSummary> {
+    r.summary.motion.as_ref()
+}
+
 fn has_workpiece(case: &Case) -> bool {
     case.workpiece.is_some()
 }
@@ -146,6 +150,62 @@ pub const METRICS: &[Metric] = &[
         value: |_, r| finite(r.summary.energy.relative_residual),
     },
     Metric {
+        name: "max_displacement_m",
+        about: "largest radial displacement of any ring (signed, outward positive); motion only",
+        value: |_, r| motion(r).map(|m| m.max_displacement),
+    },
+    Metric {
+        name: "max_velocity_m_per_s",
+        about: "largest radial speed of any ring (signed, outward positive); motion only",
+        value: |_, r| motion(r).map(|m| m.max_velocity),
+    },
+    Metric {
+        name: "first_impact_time_s",
+        about: "time of the first impact on the die or mandrel; motion only",
+        value: |_, r| motion(r).and_then(|m| m.first_impact_time),
+    },
+    Metric {
+        name: "max_impact_velocity_m_per_s",
+        about: "largest impact speed on the die or mandrel; motion only",
+        value: |_, r| motion(r).and_then(|m| m.max_impact_velocity),
+    },
+    Metric {
+        name: "rings_at_stop",
+        about: "workpiece rings that reached the die or mandrel; motion only",
+        value: |_, r| motion(r).map(|m| m.rings_at_stop as f64),
+    },
+    Metric {
+        name: "final_strain_min",
+        about: "smallest final hoop strain ln(r/r0) over the rings (dimensionless); motion only",
+        value: |_, r| motion(r).map(|m| m.final_strain_range[0]),
+    },
+    Metric {
+        name: "final_strain_max",
+        about: "largest final hoop strain ln(r/r0) over the rings (dimensionless); motion only",
+        value: |_, r| motion(r).map(|m| m.final_strain_range[1]),
+    },
+    Metric {
+        name: "max_plastic_strain",
+        about:
+            "largest equivalent plastic strain of any ring at the end (dimensionless); motion only",
+        value: |_, r| motion(r).map(|m| m.max_plastic_strain),
+    },
+    Metric {
+        name: "plastic_work_J",
+        about: "plastic work done on the workpiece; motion only",
+        value: |_, r| motion(r).map(|_| r.summary.energy.plastic),
+    },
+    Metric {
+        name: "kinetic_energy_J",
+        about: "kinetic energy of the workpiece at the end of the run; motion only",
+        value: |_, r| motion(r).map(|_| r.summary.energy.kinetic),
+    },
+    Metric {
+        name: "efficiency",
+        about: "plastic work over the bank energy 0.5 C V0^2 (dimensionless); motion only",
+        value: |_, r| motion(r).map(|m| m.efficiency),
+    },
+    Metric {
         name: "coil_inductance_H",
         about: "self-inductance of the coil alone",
         value: |_, r| finite(r.mesh.coil_inductance),
@@ -173,11 +233,23 @@ mod tests {
 
     #[test]
     fn names_are_unique_and_carry_units() {
+        const UNITS: [&str; 14] = [
+            "_A", "_s", "_Hz", "_A_per_s", "_C", "_A2s", "_percent", "_Pa", "_N", "_K", "_J", "_H",
+            "_m", "_m_per_s",
+        ];
         for (k, m) in METRICS.iter().enumerate() {
             assert!(METRICS[..k].iter().all(|o| o.name != m.name), "duplicate {}", m.name);
-            let unitless = ["energy_relative_residual", "filaments"];
+            let unitless = [
+                "energy_relative_residual",
+                "filaments",
+                "rings_at_stop",
+                "final_strain_min",
+                "final_strain_max",
+                "max_plastic_strain",
+                "efficiency",
+            ];
             assert!(
-                unitless.contains(&m.name) || m.name.contains('_'),
+                unitless.contains(&m.name) || UNITS.iter().any(|u| m.name.ends_with(u)),
                 "{} has no unit suffix",
                 m.name
             );

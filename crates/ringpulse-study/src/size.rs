@@ -14,6 +14,8 @@
 //! The scan assumes that the metric does not rise above the target and fall back between two
 //! scan points; for the charging voltage every current grows linearly and every force and
 //! pressure quadratically (the network is linear), so the first crossing is the only one.
+//! With motion the displacement, strain and impact speed grow with the bank energy too, but a
+//! die or mandrel caps them: a strain beyond the die's is reported as out of reach.
 
 use ringpulse_case::units::{parse_str, Dimension};
 use ringpulse_case::Case;
@@ -43,19 +45,26 @@ pub enum Target {
     PeakAxialForce,
     /// Peak net workpiece current, in amperes.
     PeakWorkpieceCurrent,
+    /// Largest magnitude of the final hoop strain ln(r/r0) over the rings (dimensionless;
+    /// motion only).
+    FinalStrain,
+    /// Largest magnitude of the radial displacement of any ring, in metres (motion only).
+    MaxDisplacement,
+    /// Largest impact speed on the die or mandrel, in m/s (motion only; 0 without impact).
+    ImpactVelocity,
 }
-
-/// Targets that need the workpiece motion, which the engine does not compute yet.
-pub const MOTION_TARGETS: [&str; 3] = ["final_strain", "max_displacement", "impact_velocity"];
 
 impl Target {
     /// Every target, with its name on the command line.
-    pub const ALL: [(Target, &'static str); 5] = [
+    pub const ALL: [(Target, &'static str); 8] = [
         (Target::PeakPressure, "peak_pressure"),
         (Target::PeakCoilCurrent, "peak_coil_current"),
         (Target::PeakRadialForce, "peak_radial_force"),
         (Target::PeakAxialForce, "peak_axial_force"),
         (Target::PeakWorkpieceCurrent, "peak_workpiece_current"),
+        (Target::FinalStrain, "final_strain"),
+        (Target::MaxDisplacement, "max_displacement"),
+        (Target::ImpactVelocity, "impact_velocity"),
     ];
 
     /// The command-line name.
@@ -63,12 +72,39 @@ impl Target {
         Target::ALL.iter().find(|(t, _)| *t == self).map_or("?", |(_, n)| n)
     }
 
-    /// The dimension the target value is given in.
-    pub fn dimension(self) -> Dimension {
+    /// Parses the target value: a bare number is SI (a strain as a fraction); otherwise a
+    /// string with a unit of the target's quantity (`150 MPa`, `2 mm`, `250 m/s`, `5%`).
+    fn parse_value(self, v: &str) -> Result<f64, String> {
+        if let Ok(x) = v.parse::<f64>() {
+            return Ok(x);
+        }
+        let number = |s: &str, what: &str| {
+            s.trim().parse::<f64>().map_err(|_| format!("expected {what}, got {v:?}"))
+        };
         match self {
-            Target::PeakPressure => Dimension::Stress,
-            Target::PeakCoilCurrent | Target::PeakWorkpieceCurrent => Dimension::Current,
-            Target::PeakRadialForce | Target::PeakAxialForce => Dimension::Force,
+            Target::PeakPressure => parse_str(v, Dimension::Stress),
+            Target::PeakCoilCurrent | Target::PeakWorkpieceCurrent => {
+                parse_str(v, Dimension::Current)
+            }
+            Target::PeakRadialForce | Target::PeakAxialForce => parse_str(v, Dimension::Force),
+            Target::MaxDisplacement => parse_str(v, Dimension::Length),
+            Target::FinalStrain => match v.strip_suffix('%') {
+                Some(p) => number(p, "a strain as a plain number (0.05) or in percent (5%)")
+                    .map(|x| x / 100.0),
+                None => Err(format!(
+                    "expected a strain as a plain number (0.05) or in percent (5%), got {v:?}"
+                )),
+            },
+            Target::ImpactVelocity => {
+                let (num, scale) = if let Some(n) = v.strip_suffix("km/s") {
+                    (n, 1e3)
+                } else if let Some(n) = v.strip_suffix("m/s") {
+                    (n, 1.0)
+                } else {
+                    return Err(format!("expected a speed in m/s (250 m/s), got {v:?}"));
+                };
+                number(num, "a speed in m/s (250 m/s)").map(|x| x * scale)
+            }
         }
     }
 
@@ -80,6 +116,9 @@ impl Target {
             Target::PeakRadialForce => "peak_radial_force_N",
             Target::PeakAxialForce => "peak_axial_force_N",
             Target::PeakWorkpieceCurrent => "peak_workpiece_current_A",
+            Target::FinalStrain => "final_strain_max",
+            Target::MaxDisplacement => "max_displacement_m",
+            Target::ImpactVelocity => "max_impact_velocity_m_per_s",
         }
     }
 
@@ -88,15 +127,28 @@ impl Target {
         self != Target::PeakCoilCurrent
     }
 
-    /// The target quantity of a run.
+    /// True when the target needs the workpiece to move.
+    pub fn needs_motion(self) -> bool {
+        matches!(self, Target::FinalStrain | Target::MaxDisplacement | Target::ImpactVelocity)
+    }
+
+    /// The target quantity of a run (NaN when the run lacks it, e.g. no motion).
     pub fn value(self, r: &RunResult) -> f64 {
         let s = &r.summary;
+        let motion = s.motion.as_ref();
         match self {
             Target::PeakPressure => s.peak_pressure.as_ref().map_or(f64::NAN, |p| p.value),
             Target::PeakCoilCurrent => s.peak_coil_current,
             Target::PeakRadialForce => s.peak_radial_force,
             Target::PeakAxialForce => s.peak_axial_force,
             Target::PeakWorkpieceCurrent => s.peak_workpiece_current,
+            Target::FinalStrain => motion.map_or(f64::NAN, |m| {
+                m.final_strain_range[0].abs().max(m.final_strain_range[1].abs())
+            }),
+            Target::MaxDisplacement => motion.map_or(f64::NAN, |m| m.max_displacement.abs()),
+            Target::ImpactVelocity => {
+                motion.map_or(f64::NAN, |m| m.max_impact_velocity.unwrap_or(0.0))
+            }
         }
     }
 }
@@ -117,20 +169,12 @@ pub fn parse_target(text: &str) -> Result<TargetSpec, StudyError> {
         return Err(err("expected NAME=VALUE, e.g. peak_pressure=150MPa".into()));
     };
     let name = name.trim();
-    if MOTION_TARGETS.contains(&name) {
-        return Err(err(format!(
-            "target {name} needs the workpiece motion model, which this version does not have yet"
-        )));
-    }
     let Some(&(target, _)) = Target::ALL.iter().find(|(_, n)| *n == name) else {
         let names: Vec<&str> = Target::ALL.iter().map(|(_, n)| *n).collect();
         return Err(err(format!("unknown target {name:?}; targets are {}", names.join(", "))));
     };
     let v = value.trim();
-    let x = match v.parse::<f64>() {
-        Ok(x) => x,
-        Err(_) => parse_str(v, target.dimension()).map_err(err)?,
-    };
+    let x = target.parse_value(v).map_err(err)?;
     if !(x.is_finite() && x > 0.0) {
         return Err(err(format!("the target value must be > 0, got {v:?}")));
     }
@@ -245,11 +289,13 @@ pub struct SizeOptions {
     pub rel_tol: f64,
     /// Run every evaluation in coarse resolution.
     pub coarse: bool,
+    /// Keep the workpiece fixed (no motion) in every evaluation.
+    pub fixed: bool,
 }
 
 impl Default for SizeOptions {
     fn default() -> Self {
-        SizeOptions { range: None, rel_tol: REL_TOL, coarse: false }
+        SizeOptions { range: None, rel_tol: REL_TOL, coarse: false, fixed: false }
     }
 }
 
@@ -339,6 +385,14 @@ fn size_with(
             "needs a workpiece, and the case has none",
         ));
     }
+    if target.target.needs_motion() && (opts.fixed || !base.motion.enabled) {
+        return Err(spec_error(
+            "--target",
+            target.target.name(),
+            "needs the workpiece to move: the case has motion off (\"motion\": false) or \
+             --fixed was given",
+        ));
+    }
     if !(opts.rel_tol > 0.0 && opts.rel_tol < 0.5) {
         return Err(spec_error(
             "--rel-tol",
@@ -353,6 +407,9 @@ fn size_with(
         case.discretization.mode = ringpulse_case::Resolution::Coarse {
             tube_rings: ringpulse_case::validate::defaults::COARSE_TUBE_RINGS,
         };
+    }
+    if opts.fixed {
+        case.motion.enabled = false;
     }
     let mut evaluations = Vec::new();
     let mut eval = |x: f64| -> Result<(f64, RunResult), StudyError> {
@@ -518,15 +575,19 @@ mod tests {
     }
 
     #[test]
-    fn motion_targets_say_what_is_missing() {
-        assert_eq!(
-            parse_target("final_strain=0.05").unwrap_err().to_string(),
-            "--target final_strain=0.05: target final_strain needs the workpiece motion model, \
-             which this version does not have yet"
-        );
-        for name in MOTION_TARGETS {
-            assert!(parse_target(&format!("{name}=1")).is_err());
-        }
+    fn motion_targets_parse_with_their_units() {
+        let t = parse_target("final_strain=5%").unwrap();
+        assert_eq!(t.target, Target::FinalStrain);
+        assert!((t.value - 0.05).abs() < 1e-15);
+        assert_eq!(parse_target("final_strain=0.05").unwrap().value, 0.05);
+        assert_eq!(parse_target("max_displacement=2 mm").unwrap().value, 2e-3);
+        assert_eq!(parse_target("impact_velocity=250 m/s").unwrap().value, 250.0);
+        assert_eq!(parse_target("impact_velocity=0.3km/s").unwrap().value, 300.0);
+        let e = parse_target("impact_velocity=250 mm").unwrap_err().to_string();
+        assert!(e.contains("expected a speed in m/s"), "{e}");
+        let e = parse_target("final_strain=5 mm").unwrap_err().to_string();
+        assert!(e.contains("in percent (5%)"), "{e}");
+        assert!(Target::FinalStrain.needs_motion() && !Target::PeakPressure.needs_motion());
     }
 
     #[test]

@@ -19,7 +19,7 @@ use std::sync::{Arc, Mutex, OnceLock};
 use rayon::prelude::*;
 use ringpulse_case::validate::parse_case_file;
 use ringpulse_case::{validate, Case, Ratings, Resolution};
-use ringpulse_engine::{prepare, run_prepared, EngineError, Prepared, RunResult};
+use ringpulse_engine::{prepare, run_prepared_as_case, EngineError, Prepared, RunResult};
 use serde_json::Value;
 
 use crate::metrics;
@@ -67,6 +67,8 @@ impl BaseCase {
 pub struct SweepOptions {
     /// Run every variant in coarse resolution (one filament per turn, 40 workpiece cells).
     pub coarse: bool,
+    /// Keep the workpiece fixed (no motion) in every variant, whatever the case says.
+    pub fixed: bool,
     /// Worker threads; `None`: one per core (rayon's default).
     pub threads: Option<usize>,
 }
@@ -146,7 +148,7 @@ impl Runner {
             }
         };
         let prepared = slot.get_or_init(|| prepare(case)).clone()?;
-        run_prepared(case, prepared)
+        run_prepared_as_case(case, prepared, None)
     }
 }
 
@@ -181,6 +183,9 @@ fn run_variant(
         case.discretization.mode = Resolution::Coarse {
             tube_rings: ringpulse_case::validate::defaults::COARSE_TUBE_RINGS,
         };
+    }
+    if opts.fixed {
+        case.motion.enabled = false;
     }
     let result = runner.run(&case).map_err(|e| e.to_string())?;
     Ok((case, result))

@@ -9,6 +9,7 @@
 
 mod study;
 
+use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
@@ -58,6 +59,9 @@ enum Command {
         /// Refine the skin-depth split: cells this many times smaller (2 = twice as fine).
         #[arg(long, value_name = "FACTOR")]
         refine: Option<f64>,
+        /// Keep the workpiece fixed (no motion), whatever the case says; much faster.
+        #[arg(long)]
+        fixed: bool,
         /// Do not draw plots.
         #[arg(long)]
         no_plots: bool,
@@ -75,6 +79,9 @@ enum Command {
         /// Quick preview resolution.
         #[arg(long)]
         coarse: bool,
+        /// Keep the workpiece fixed (no motion), whatever the case says.
+        #[arg(long)]
+        fixed: bool,
         /// Print only errors, warnings and failing ratings.
         #[arg(long, short)]
         quiet: bool,
@@ -100,6 +107,9 @@ enum Command {
         /// Run every variant in the quick preview resolution.
         #[arg(long)]
         coarse: bool,
+        /// Keep the workpiece fixed (no motion) in every variant, whatever the case says.
+        #[arg(long)]
+        fixed: bool,
         /// Run only shard I of N (1-based; variant k goes to shard k mod N + 1); writes
         /// sweep.part-I-of-N.csv.
         #[arg(long, value_name = "I/N")]
@@ -148,8 +158,9 @@ enum Command {
     Size {
         /// Case file (JSON).
         case: PathBuf,
-        /// NAME=VALUE: peak_pressure, peak_coil_current, peak_radial_force, peak_axial_force or
-        /// peak_workpiece_current, e.g. peak_pressure=150MPa.
+        /// NAME=VALUE: peak_pressure, peak_coil_current, peak_radial_force, peak_axial_force,
+        /// peak_workpiece_current, or with motion final_strain, max_displacement,
+        /// impact_velocity; e.g. peak_pressure=150MPa, final_strain=5%, impact_velocity=250m/s.
         #[arg(long, value_name = "NAME=VALUE")]
         target: String,
         /// bank.voltage or bank.capacitance.
@@ -167,6 +178,9 @@ enum Command {
         /// Quick preview resolution for every run.
         #[arg(long)]
         coarse: bool,
+        /// Keep the workpiece fixed (no motion) in every run.
+        #[arg(long)]
+        fixed: bool,
         /// Output directory (created; size.json in it is replaced).
         #[arg(long, short, default_value = "out")]
         out: PathBuf,
@@ -214,11 +228,13 @@ fn main() -> ExitCode {
 
 fn execute(cli: Cli) -> Result<(), Failure> {
     match cli.command {
-        Command::Run { case, out, coarse, refine, no_plots, quiet } => {
-            run(&case, &out, coarse, refine, !no_plots, quiet)
+        Command::Run { case, out, coarse, refine, fixed, no_plots, quiet } => {
+            run(&case, &out, RunChoices { coarse, refine, fixed, plots: !no_plots, quiet })
         }
         Command::New { path, force } => new_case(path.as_deref(), force),
-        Command::Check { case, out, coarse, quiet } => study::check(&case, &out, coarse, quiet),
+        Command::Check { case, out, coarse, fixed, quiet } => {
+            study::check(&case, &out, coarse, fixed, quiet)
+        }
         Command::Sweep {
             case,
             vary,
@@ -226,6 +242,7 @@ fn execute(cli: Cli) -> Result<(), Failure> {
             seed,
             out,
             coarse,
+            fixed,
             shard,
             shard_from_env,
             shards,
@@ -241,6 +258,7 @@ fn execute(cli: Cli) -> Result<(), Failure> {
             seed,
             out,
             coarse,
+            fixed,
             shard,
             shard_from_env,
             shards,
@@ -261,6 +279,7 @@ fn execute(cli: Cli) -> Result<(), Failure> {
             capacitances,
             rel_tol,
             coarse,
+            fixed,
             out,
             quiet,
         } => study::size_cmd(study::SizeArgs {
@@ -271,6 +290,7 @@ fn execute(cli: Cli) -> Result<(), Failure> {
             capacitances,
             rel_tol,
             coarse,
+            fixed,
             out,
             quiet,
         }),
@@ -290,17 +310,23 @@ fn read_case(path: &Path) -> Result<(Case, Vec<String>, Vec<u8>), Failure> {
     Ok((case, warnings, bytes))
 }
 
-fn run(
-    path: &Path,
-    out: &Path,
+/// The options of `run`.
+struct RunChoices {
     coarse: bool,
     refine: Option<f64>,
+    fixed: bool,
     plots: bool,
     quiet: bool,
-) -> Result<(), Failure> {
+}
+
+fn run(path: &Path, out: &Path, choices: RunChoices) -> Result<(), Failure> {
+    let RunChoices { coarse, refine, fixed, plots, quiet } = choices;
     let (mut case, case_warnings, bytes) = read_case(path)?;
     if coarse {
         case.discretization.mode = Resolution::Coarse { tube_rings: 40 };
+    }
+    if fixed {
+        case.motion.enabled = false;
     }
     if let Some(factor) = refine {
         if !(factor.is_finite() && factor > 0.0 && factor <= 16.0) {
@@ -318,7 +344,30 @@ fn run(
         eprintln!("ringpulse {}: {}", env!("CARGO_PKG_VERSION"), case.description);
         eprintln!("caution: high-voltage capacitor banks are lethal; this is a design aid, not a safety assessment");
     }
-    let mut result = ringpulse_engine::run(&case).map_err(engine_failure)?;
+    let moving = case.motion.enabled && case.workpiece.is_some();
+    let bar = (moving && !quiet && std::io::stderr().is_terminal()).then(|| {
+        let bar = indicatif::ProgressBar::new(1000);
+        if let Ok(style) = indicatif::ProgressStyle::with_template(
+            "{bar:40} {msg} simulated, {elapsed_precise} elapsed, eta {eta_precise}",
+        ) {
+            bar.set_style(style);
+        }
+        bar
+    });
+    let report = |t: f64, t_end: f64| {
+        if let Some(b) = &bar {
+            if t_end > 0.0 {
+                b.set_position((1000.0 * (t / t_end).clamp(0.0, 1.0)) as u64);
+                b.set_message(format!("{:.1} of {:.1} us", t * 1e6, t_end * 1e6));
+            }
+        }
+    };
+    let progress: Option<&dyn Fn(f64, f64)> = if bar.is_some() { Some(&report) } else { None };
+    let run_result = ringpulse_engine::run_with_progress(&case, progress);
+    if let Some(b) = &bar {
+        b.finish_and_clear();
+    }
+    let mut result = run_result.map_err(engine_failure)?;
     let mut warnings = case_warnings;
     warnings.append(&mut result.warnings);
     result.warnings = warnings;

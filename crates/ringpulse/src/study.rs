@@ -12,8 +12,8 @@ use std::time::Instant;
 use indicatif::{ProgressBar, ProgressStyle};
 use ringpulse_case::{Case, Resolution};
 use ringpulse_output::study::{
-    format_ratings_table, format_sizing, merge_parts, write_merged, write_ratings, write_size,
-    write_sweep, SweepMeta,
+    format_ratings_table, format_sizing, merge_parts, resolution_label, write_merged,
+    write_ratings, write_size, write_sweep, SweepMeta,
 };
 use ringpulse_output::{case_hash, write_atomically, RunMeta};
 use ringpulse_study::metrics::{metric, METRICS};
@@ -55,14 +55,6 @@ fn meta(path: &Path, bytes: &[u8], description: &str) -> RunMeta {
     }
 }
 
-fn resolution_name(coarse: bool) -> &'static str {
-    if coarse {
-        "coarse"
-    } else {
-        "case"
-    }
-}
-
 fn set_coarse(case: &mut Case) {
     case.discretization.mode =
         Resolution::Coarse { tube_rings: ringpulse_case::validate::defaults::COARSE_TUBE_RINGS };
@@ -70,7 +62,13 @@ fn set_coarse(case: &mut Case) {
 
 /// `ringpulse check`: run the case, print the ratings table, write ratings.json; exit 3 when
 /// a rating fails.
-pub fn check(path: &Path, out: &Path, coarse: bool, quiet: bool) -> Result<(), Failure> {
+pub fn check(
+    path: &Path,
+    out: &Path,
+    coarse: bool,
+    fixed: bool,
+    quiet: bool,
+) -> Result<(), Failure> {
     let (mut case, warnings, bytes) = read_case(path)?;
     if case.ratings.is_empty() {
         return Err(input_error(format!(
@@ -81,6 +79,9 @@ pub fn check(path: &Path, out: &Path, coarse: bool, quiet: bool) -> Result<(), F
     if coarse {
         set_coarse(&mut case);
     }
+    if fixed {
+        case.motion.enabled = false;
+    }
     for w in &warnings {
         eprintln!("warning: {w}");
     }
@@ -88,7 +89,7 @@ pub fn check(path: &Path, out: &Path, coarse: bool, quiet: bool) -> Result<(), F
     let report = evaluate(&case, &result);
     let meta = meta(path, &bytes, &case.description);
     write_atomically(out, |tmp| {
-        Ok(vec![write_ratings(tmp, &meta, resolution_name(coarse), &report)?])
+        Ok(vec![write_ratings(tmp, &meta, resolution_label(coarse, fixed), &report)?])
     })
     .map_err(|e| fail(EXIT_OUTPUT, e))?;
     if !quiet {
@@ -122,6 +123,8 @@ pub struct SweepArgs {
     pub out: PathBuf,
     /// Coarse resolution for every variant.
     pub coarse: bool,
+    /// No motion in any variant.
+    pub fixed: bool,
     /// `--shard I/N`.
     pub shard: Option<String>,
     /// `--shard-from-env VAR`.
@@ -295,7 +298,7 @@ pub fn sweep(a: SweepArgs) -> Result<(), Failure> {
             base.case.description
         );
     }
-    let opts = SweepOptions { coarse: a.coarse, threads: a.jobs };
+    let opts = SweepOptions { coarse: a.coarse, fixed: a.fixed, threads: a.jobs };
     let bar = progress_bar(variants.len(), a.quiet);
     let progress = |done: usize, _total: usize| {
         if let Some(b) = &bar {
@@ -318,6 +321,7 @@ pub fn sweep(a: SweepArgs) -> Result<(), Failure> {
         },
         lhs: a.lhs.map(|p| (p, a.seed)),
         coarse: a.coarse,
+        fixed: a.fixed,
         variants_total: total,
         shard,
         threads,
@@ -389,6 +393,8 @@ pub struct SizeArgs {
     pub rel_tol: Option<f64>,
     /// `--coarse`.
     pub coarse: bool,
+    /// `--fixed`.
+    pub fixed: bool,
     /// `--out`.
     pub out: PathBuf,
     /// `--quiet`.
@@ -417,7 +423,12 @@ pub fn size_cmd(a: SizeArgs) -> Result<(), Failure> {
             eprintln!("warning: {w}");
         }
     }
-    let opts = SizeOptions { range, rel_tol: a.rel_tol.unwrap_or(REL_TOL), coarse: a.coarse };
+    let opts = SizeOptions {
+        range,
+        rel_tol: a.rel_tol.unwrap_or(REL_TOL),
+        coarse: a.coarse,
+        fixed: a.fixed,
+    };
     let sizings = match &caps {
         Some(c) => size_capacitances(&case, target, c, &opts),
         None => size(&case, target, adjust, &opts).map(|s| vec![s]),
@@ -425,7 +436,7 @@ pub fn size_cmd(a: SizeArgs) -> Result<(), Failure> {
     .map_err(study_failure)?;
     let meta = meta(&a.case, &bytes, &case.description);
     write_atomically(&a.out, |tmp| {
-        Ok(vec![write_size(tmp, &meta, resolution_name(a.coarse), &sizings)?])
+        Ok(vec![write_size(tmp, &meta, resolution_label(a.coarse, a.fixed), &sizings)?])
     })
     .map_err(|e| fail(EXIT_OUTPUT, e))?;
     if !a.quiet {

@@ -240,7 +240,7 @@ pub fn validate(file: &CaseFile) -> Result<(Case, Vec<String>), CaseError> {
 }
 
 #[path = "motion_check.rs"]
-mod motion_check;
+pub(crate) mod motion_check;
 
 /// The outcome of reading one optional field.
 #[derive(Debug, Clone, Copy, PartialEq)]

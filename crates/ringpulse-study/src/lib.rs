@@ -44,6 +44,9 @@ pub enum StudyError {
         what: String,
         /// The engine's or validation's message.
         message: String,
+        /// True when the engine refused the case (a problem of the input, such as too many
+        /// filaments), false when the stepper failed.
+        refused: bool,
     },
 }
 

@@ -185,6 +185,14 @@ pub const METRICS: &[Metric] = &[
         value: |_, r| motion(r).map(|m| m.final_strain_range[1]),
     },
     Metric {
+        name: "final_strain_magnitude",
+        about: "largest |final hoop strain| over the rings (dimensionless; the final_strain \
+                sizing target); motion only",
+        value: |_, r| {
+            motion(r).map(|m| m.final_strain_range[0].abs().max(m.final_strain_range[1].abs()))
+        },
+    },
+    Metric {
         name: "max_plastic_strain",
         about:
             "largest equivalent plastic strain of any ring at the end (dimensionless); motion only",
@@ -245,6 +253,7 @@ mod tests {
                 "rings_at_stop",
                 "final_strain_min",
                 "final_strain_max",
+                "final_strain_magnitude",
                 "max_plastic_strain",
                 "efficiency",
             ];

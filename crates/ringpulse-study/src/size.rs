@@ -116,7 +116,7 @@ impl Target {
             Target::PeakRadialForce => "peak_radial_force_N",
             Target::PeakAxialForce => "peak_axial_force_N",
             Target::PeakWorkpieceCurrent => "peak_workpiece_current_A",
-            Target::FinalStrain => "final_strain_max",
+            Target::FinalStrain => "final_strain_magnitude",
             Target::MaxDisplacement => "max_displacement_m",
             Target::ImpactVelocity => "max_impact_velocity_m_per_s",
         }
@@ -418,6 +418,7 @@ fn size_with(
         let r = runner.run(&c).map_err(|e| StudyError::Run {
             what: format!("{} = {x:e} {}", adjust.path(), adjust.unit()),
             message: e.to_string(),
+            refused: !matches!(e, ringpulse_engine::EngineError::Solver { .. }),
         })?;
         let m = target.target.value(&r);
         evaluations.push(Evaluation { x, metric: m });

@@ -36,7 +36,7 @@ pub const DEFAULT_PLOTS: &str = "peak_pressure_Pa,peak_coil_current_A";
 
 fn study_failure(e: StudyError) -> Failure {
     let code = match e {
-        StudyError::Run { .. } => EXIT_SIMULATION,
+        StudyError::Run { refused: false, .. } => EXIT_SIMULATION,
         _ => EXIT_INPUT,
     };
     fail(code, e)

@@ -525,7 +525,18 @@ pub enum Event {
     Stop(usize),
     /// Ring q reached the coil.
     CoilContact(usize),
+    /// The wall of ring q reached its limit ratio to the radius (a tube collapsing toward the
+    /// axis; [`MovingNetwork::wall_ratio_limit`]): the thin-ring model no longer holds.
+    ThickWall(usize),
 }
+
+/// Largest wall over mean radius h/r of a ring that the thin-ring model is used for (a ring
+/// that starts thicker may reach 1.5 times its initial ratio). A tube
+/// compressed without a mandrel thickens as h = h0 r0 / r; past this ratio the run stops with
+/// a message (the hoop-stress and filament-cell assumptions fail, and the inductance matrix of
+/// the thickened cells soon stops being positive definite: the compression demo without its
+/// mandrel loses it near h/r = 0.25).
+pub const THIN_WALL_LIMIT: f64 = 0.2;
 
 /// The right-hand side with motion.
 pub struct MotionRhs<'a> {
@@ -739,6 +750,9 @@ impl<'a> MotionRhs<'a> {
                     out.push(Event::CoilContact(q));
                 }
             }
+            if self.net.wall_margin(q, y, &self.ms) <= 0.0 {
+                out.push(Event::ThickWall(q));
+            }
         }
         out
     }
@@ -755,6 +769,22 @@ impl MovingNetwork {
             Stop::Die(rd) => Some(rd - (r + h / 2.0)),
             Stop::Mandrel(rm) => Some((r - h / 2.0) - rm),
         }
+    }
+
+    /// The largest wall-to-radius ratio h/r ring q may reach: [`THIN_WALL_LIMIT`], or 1.5
+    /// times its initial ratio for a ring that starts thick (a short launch ring).
+    pub fn wall_ratio_limit(&self, q: usize) -> f64 {
+        let ring = &self.rings[q];
+        THIN_WALL_LIMIT.max(1.5 * ring.h0 / ring.r0)
+    }
+
+    /// limit × r − h of ring q, in metres (see [`MovingNetwork::wall_ratio_limit`]): positive
+    /// while the ring's wall is within the thin-ring model's range.
+    pub fn wall_margin(&self, q: usize, y: &DVector<f64>, ms: &MechScales) -> f64 {
+        let lay = self.layout();
+        let ring = &self.rings[q];
+        let r = ring.r0 + y[lay.rings + 4 * q] * ms.length;
+        self.wall_ratio_limit(q) * r - ring.h0 * ring.r0 / r
     }
 
     /// Gap to the coil of ring q, in metres (positive while clear), if the coil is on one side.
@@ -779,9 +809,15 @@ impl System<f64, DVector<f64>> for &mut MotionRhs<'_> {
             self.dt_range.0 = self.dt_range.0.min(dt);
             self.dt_range.1 = self.dt_range.1.max(dt);
         }
-        if !y.iter().all(|v| v.is_finite()) || self.last.borrow().is_some() {
+        if !y.iter().all(|v| v.is_finite()) {
             return true;
         }
+        // Every stage of an accepted step evaluated cleanly (a failed evaluation returns NaN
+        // derivatives, which make the step's error estimate NaN and the step rejected), so a
+        // failure recorded before this point came from a rejected trial step that overshot
+        // into an impossible geometry: forget it. A failure the stepper cannot step around
+        // ends the integration (step size too small) and is then reported.
+        self.last.borrow_mut().take();
         let events = match self.last_y.as_ref() {
             Some(prev) => self.detect(prev, y),
             None => Vec::new(),

@@ -25,6 +25,10 @@ pub struct MotionOptions {
     pub stop_radius: Option<f64>,
     /// Flow law override; `None` picks one from the material name (see [`flow_law_for`]).
     pub flow: Option<FlowLaw>,
+    /// Rebuild the moving blocks of the inductance matrix with the kernel at every evaluation
+    /// instead of updating them to first order between small displacements
+    /// ([`MovingNetwork::linearization_shift`]); slower, for checks. Default: false.
+    pub exact_blocks: bool,
 }
 
 /// The flow law used for a material: a published Johnson–Cook set where one fits the
@@ -95,6 +99,7 @@ pub fn motion_options(case: &Case) -> MotionOptions {
             .workpiece
             .as_ref()
             .map(|t| flow_law_of_case(case.motion.flow_stress.as_ref(), &t.material)),
+        exact_blocks: false,
     }
 }
 
@@ -197,6 +202,8 @@ pub fn run_motion_with_progress(
         max_step: (period / 10.0).min(t_end),
         max_steps: 5_000_000,
     };
+    let max_shift =
+        if options.exact_blocks { 0.0 } else { net.linearization_shift(settings.rel_tol) };
     let mut y = DVector::zeros(lay.len);
     y[nl + slot::V] = 1.0;
     for f in 0..net.base.mesh.filaments.len() {
@@ -223,6 +230,7 @@ pub fn run_motion_with_progress(
             t_end,
             y.clone(),
             &settings,
+            max_shift,
             progress,
         )?;
         let Some((events, ta, tb)) = seg.event.clone() else {

@@ -67,6 +67,56 @@ pub fn complete_e(mc: f64) -> f64 {
     carlson_rf(0.0, mc, 1.0) - m / 3.0 * carlson_rd(0.0, mc, 1.0)
 }
 
+/// K(κ) and the difference K(κ) − E(κ) from one arithmetic-geometric mean, with no
+/// cancellation anywhere (dimensionless).
+///
+/// ```text
+/// K = π / (2 M(1, κ')),   K − E = K · Σ_{n≥0} 2^(n−1) c_n²   (DLMF 19.8.1, 19.8.6)
+/// a_0 = 1, b_0 = κ', c_0 = κ;  a_{n+1} = (a_n + b_n)/2,  b_{n+1} = √(a_n b_n),
+/// c_{n+1} = (a_n − b_n)/2 = c_n² / (4 a_{n+1})
+/// ```
+///
+/// The sum has only positive terms and c_{n+1} is formed from c_n² rather than from the
+/// difference a_n − b_n, so both results are accurate to a few ulps for every κ in (0, 1);
+/// the mean converges quadratically (at most about eight steps at κ'² = 10⁻³⁰).
+/// It gives the same K and K − E as R_F(0, κ'², 1) and (κ²/3) R_D(0, κ'², 1) (DLMF 19.25.1)
+/// at about half the cost of evaluating both, which matters in the filament kernel.
+///
+/// - `m`: κ², in [0, 1];
+/// - `mc`: κ'² = 1 − κ², computed by the caller without the subtraction; must be > 0.
+///
+/// Returns `(NaN, NaN)` for out-of-range input and `(+∞, +∞)` for `mc` = 0.
+#[inline]
+pub fn complete_k_and_difference(m: f64, mc: f64) -> (f64, f64) {
+    if !(m >= 0.0 && mc >= 0.0 && m.is_finite() && mc.is_finite()) {
+        return (f64::NAN, f64::NAN);
+    }
+    if mc == 0.0 {
+        return (f64::INFINITY, f64::INFINITY);
+    }
+    let mut a = 1.0;
+    let mut b = mc.sqrt();
+    let mut c2 = m;
+    let mut weight = 0.5;
+    let mut sum = 0.5 * m;
+    // Quadratic convergence: 64 steps is far more than any double needs.
+    for _ in 0..64 {
+        let a_next = 0.5 * (a + b);
+        b = (a * b).sqrt();
+        a = a_next;
+        let c = c2 / (4.0 * a);
+        c2 = c * c;
+        weight *= 2.0;
+        let term = weight * c2;
+        sum += term;
+        if term <= 1e-17 * sum {
+            break;
+        }
+    }
+    let k = std::f64::consts::PI / (a + b);
+    (k, k * sum)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -113,6 +163,25 @@ mod tests {
         let l = (4.0 / mc.sqrt()).ln();
         assert!(rel(complete_k(mc), l + mc / 4.0 * (l - 1.0)) < 1e-15);
         assert!(rel(complete_e(mc), 1.0 + mc / 2.0 * (l - 0.5)) < 1e-15);
+    }
+
+    #[test]
+    fn agm_matches_carlson() {
+        for mc in [1e-30, 1e-20, 1e-12, 1e-6, 1e-3, 0.01, 0.3, 0.5, 0.77, 0.999, 1.0 - 1e-9] {
+            let m = 1.0 - mc;
+            let (k, d) = complete_k_and_difference(m, mc);
+            let k_ref = carlson_rf(0.0, mc, 1.0);
+            let d_ref = m / 3.0 * carlson_rd(0.0, mc, 1.0);
+            assert!(rel(k, k_ref) < 4e-16, "K at mc = {mc:e}: {k} vs {k_ref}");
+            assert!(rel(d, d_ref) < 4e-15, "K - E at mc = {mc:e}: {d} vs {d_ref}");
+        }
+        // Small modulus: K − E = (π/4) m (1 + 3m/8 + ...) (the series DLMF 19.5.1 and 19.5.2).
+        let m = 1e-12;
+        let (_, d) = complete_k_and_difference(m, 1.0 - m);
+        assert!(rel(d, std::f64::consts::FRAC_PI_4 * m * (1.0 + 3.0 * m / 8.0)) < 1e-15);
+        assert_eq!(complete_k_and_difference(1.0, 0.0), (f64::INFINITY, f64::INFINITY));
+        assert!(complete_k_and_difference(-1.0, 0.5).0.is_nan());
+        assert!(complete_k_and_difference(0.5, f64::NAN).1.is_nan());
     }
 
     #[test]

@@ -4,7 +4,7 @@
 //! Ring 1 has radius `a` and sits at z = 0; ring 2 has radius `b` and sits at axial offset
 //! `z` = z2 − z1; all lengths are in metres.
 //! These functions are evaluated O(n²) times per inductance matrix, so they are
-//! allocation-free and share one evaluation of Carlson's integrals between M and its three
+//! allocation-free and share one evaluation of the elliptic integrals between M and its three
 //! derivatives.
 //!
 //! # Formulation
@@ -60,7 +60,7 @@
 //! B_z = (I/(2π r)) ∂M/∂r and B_r = −(I/(2π r)) ∂M/∂z, with the factor 1/r cancelled
 //! analytically so that the field stays exact as r → 0.
 
-use crate::elliptic::{carlson_rd, carlson_rf};
+use crate::elliptic::{carlson_rd, carlson_rf, complete_k_and_difference};
 use crate::MU0;
 
 /// Mutual inductance of two coaxial filaments and its partial derivatives.
@@ -177,8 +177,8 @@ pub fn mutual_inductance(a: f64, b: f64, z: f64) -> f64 {
     MU0 * g.s * (g.kappa * g.kappa / 3.0) * carlson_rd(0.0, g.kc2, 1.0)
 }
 
-/// Mutual inductance of two coaxial filaments and its gradient, from one evaluation of
-/// Carlson's R_F and R_D.
+/// Mutual inductance of two coaxial filaments and its gradient, from one arithmetic-geometric
+/// mean that gives K and K − E together (equal to Carlson's R_F and (κ²/3) R_D).
 ///
 /// ```text
 /// M     = μ0 S g,   g = K(κ) − E(κ) = (κ²/3) R_D(0, κ'², 1),   E(κ) = R_F(0, κ'², 1) − g
@@ -203,12 +203,11 @@ pub fn mutual_inductance_with_gradient(a: f64, b: f64, z: f64) -> MutualGradient
     let Some(Geometry { r1, r2, s, kappa, kc2 }) = Geometry::new(a, b, z) else {
         return MutualGradient::COINCIDENT;
     };
-    let rd = carlson_rd(0.0, kc2, 1.0);
-    let rf = carlson_rf(0.0, kc2, 1.0);
-    // g = K(κ) − E(κ) without cancellation; E(κ) = K − g loses at most ~1.4 digits, and
-    // only when the rings nearly touch (K ≈ 25 at κ'² = 1e-20).
-    let g = kappa * kappa / 3.0 * rd;
-    let e = rf - g;
+    // g = K(κ) − E(κ) without cancellation (one AGM gives K and g together; it equals
+    // R_F(0, κ'², 1) and (κ²/3) R_D(0, κ'², 1)); E(κ) = K − g loses at most ~1.4 digits,
+    // and only when the rings nearly touch (K ≈ 25 at κ'² = 1e-20).
+    let (k, g) = complete_k_and_difference(kappa * kappa, kc2);
+    let e = k - g;
 
     // Dimensionless building blocks, written as ratios of lengths so that nothing
     // overflows or underflows for any physically sensible scale.

@@ -10,8 +10,7 @@
 use std::path::PathBuf;
 use std::time::Instant;
 
-use ringpulse_case::{load_case, Case, Resolution, Split};
-use ringpulse_engine::reference::{coil, simple_case};
+use ringpulse_case::{load_case, Case, Resolution};
 use ringpulse_engine::{run, run_fixed, RunResult};
 
 /// Median wall time of `repeats` runs, in seconds, and the last result.
@@ -56,14 +55,11 @@ fn main() {
     paths.retain(|p| p.extension().is_some_and(|x| x == "json"));
     paths.sort();
     println!("ringpulse engine benchmark (median of 5 runs, one core)");
-    let rlc = simple_case(
-        100e-6,
-        10e3,
-        0.8e-6,
-        8e-3,
-        coil(1, 0.03, 4e-3, 4e-3, 4e-3, Some(Split { radial: 1, axial: 1 })),
-        None,
-    );
+    // The bench runs at the default tolerances (rel 1e-7, abs 1e-9), not the reference's tight
+    // ones, like the demo rows.
+    let mut rlc = ringpulse_engine::reference::series_rlc_case();
+    rlc.solver.rel_tol = 1e-7;
+    rlc.solver.abs_tol = 1e-9;
     report("reference: series RLC (1 filament)", &rlc, 5, false);
     for path in paths {
         let Ok(text) = std::fs::read_to_string(&path) else { continue };

@@ -1169,7 +1169,6 @@ pub fn integrate_motion_segment(
 mod tests {
     use super::*;
     use crate::motion_run::flow_law_for;
-    use crate::reference::{coil, simple_case, tube};
 
     /// The first-order update of the moving blocks over the largest displacement it is used
     /// for (every ring and the rigid shift at the threshold, with a varying profile) against
@@ -1177,15 +1176,7 @@ mod tests {
     /// the stepper's relative tolerance, and the forces to first order in the displacement.
     #[test]
     fn linearized_blocks_stay_within_the_solver_tolerance() {
-        let mut case = simple_case(
-            200e-6,
-            5e3,
-            100e-9,
-            5e-3,
-            coil(6, 22e-3, 3e-3, 4e-3, 5.5e-3, None),
-            Some(tube(25e-3, 1.5e-3, 60e-3, "aluminium_6061_t6", None)),
-        );
-        case.discretization.mode = ringpulse_case::Resolution::Coarse { tube_rings: 40 };
+        let case = crate::reference::coarse_expansion_case();
         let rel_tol = case.solver.rel_tol;
         let prepared = crate::prepare(&case).unwrap();
         let t = case.workpiece.as_ref().unwrap();

@@ -153,3 +153,37 @@ pub fn tube(
 ) -> Tube {
     Tube { inner_radius, wall, length, z_center: 0.0, material: material(material_name), split }
 }
+
+/// The series RLC reference circuit of the tests and benchmarks: one turn of one filament and
+/// no workpiece, 100 µF at 10 kV with 0.8 µH and 8 mΩ outside the coil, tight tolerances
+/// (rel 1e-10, abs 1e-12). L and R of the circuit are these plus the ring's own.
+pub fn series_rlc_case() -> Case {
+    let mut case = simple_case(
+        100e-6,
+        10e3,
+        0.8e-6,
+        8e-3,
+        coil(1, 0.03, 4e-3, 4e-3, 4e-3, Some(Split { radial: 1, axial: 1 })),
+        None,
+    );
+    case.solver.rel_tol = 1e-10;
+    case.solver.abs_tol = 1e-12;
+    case
+}
+
+/// The expansion demo's geometry built in code, in the coarse preview: a 6-turn internal coil
+/// (22 mm mean radius, 3 mm x 4 mm conductor at 5.5 mm pitch) and an aluminium 6061-T6 tube
+/// (25 mm inner radius, 1.5 mm wall, 60 mm long), 200 µF at 5 kV, 100 nH and 5 mΩ outside,
+/// 40 tube rings, motion on without a die.
+pub fn coarse_expansion_case() -> Case {
+    let mut case = simple_case(
+        200e-6,
+        5e3,
+        100e-9,
+        5e-3,
+        coil(6, 22e-3, 3e-3, 4e-3, 5.5e-3, None),
+        Some(tube(25e-3, 1.5e-3, 60e-3, "aluminium_6061_t6", None)),
+    );
+    case.discretization.mode = Resolution::Coarse { tube_rings: 40 };
+    case
+}

@@ -6,8 +6,7 @@
 
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)]
 
-use ringpulse_case::Split;
-use ringpulse_engine::reference::{coil, simple_case, SeriesRlc};
+use ringpulse_engine::reference::SeriesRlc;
 use ringpulse_engine::{prepare, run_prepared};
 
 fn rel(a: f64, b: f64) -> f64 {
@@ -17,17 +16,7 @@ fn rel(a: f64, b: f64) -> f64 {
 /// One turn, one filament, no workpiece: a pure series RLC circuit whose L and R are the
 /// external values plus the ring's own (from the same kernel the engine uses).
 fn rlc_case() -> ringpulse_case::Case {
-    let mut case = simple_case(
-        100e-6,
-        10e3,
-        0.8e-6,
-        8e-3,
-        coil(1, 0.03, 4e-3, 4e-3, 4e-3, Some(Split { radial: 1, axial: 1 })),
-        None,
-    );
-    case.solver.rel_tol = 1e-10;
-    case.solver.abs_tol = 1e-12;
-    case
+    ringpulse_engine::reference::series_rlc_case()
 }
 
 #[test]

@@ -8,22 +8,13 @@
 
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)]
 
-use ringpulse_case::{Resolution, Split};
+use ringpulse_case::Split;
 use ringpulse_engine::flow::FlowLaw;
 use ringpulse_engine::reference::{coil, simple_case, tube};
 use ringpulse_engine::{prepare, run_motion, run_prepared, MotionOptions};
 
 fn coarse_expansion() -> ringpulse_case::Case {
-    let mut case = simple_case(
-        200e-6,
-        5e3,
-        100e-9,
-        5e-3,
-        coil(6, 22e-3, 3e-3, 4e-3, 5.5e-3, None),
-        Some(tube(25e-3, 1.5e-3, 60e-3, "aluminium_6061_t6", None)),
-    );
-    case.discretization.mode = Resolution::Coarse { tube_rings: 40 };
-    case
+    ringpulse_engine::reference::coarse_expansion_case()
 }
 
 #[test]

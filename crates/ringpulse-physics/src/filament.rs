@@ -125,6 +125,24 @@ impl Geometry {
     }
 }
 
+/// (∂S/∂a, ∂S/∂b) for S = r1 + r2, from the reciprocals 1/r1 and 1/r2; the same forms as
+/// [`ds_dradius`] with one division (for the smaller radius, whose derivative needs the
+/// cancellation-free form).
+#[inline]
+fn ds_both(a: f64, b: f64, z: f64, inv_r1: f64, inv_r2: f64) -> (f64, f64) {
+    let u = (a + b) * inv_r1;
+    let v = (a - b).abs() * inv_r2;
+    // For the larger radius the two terms add; for the smaller one they nearly cancel, so it
+    // is evaluated as u − v = (u² − v²)/(u + v) = 4ab z²/(r1² r2² (u + v)).
+    let zr = z * inv_r1;
+    let small = 4.0 * (a * inv_r2) * (b * inv_r2) * zr * zr / (u + v);
+    if a >= b {
+        (u + v, if a == b { u - v } else { small })
+    } else {
+        (small, u + v)
+    }
+}
+
 /// ∂S/∂x for S = r1 + r2, where `own` is the radius x being varied and `other` the radius
 /// of the other ring (dimensionless, ≥ 0).
 ///
@@ -200,33 +218,48 @@ pub fn mutual_inductance_with_gradient(a: f64, b: f64, z: f64) -> MutualGradient
     if !valid_pair(a, b, z) {
         return MutualGradient::NAN;
     }
-    let Some(Geometry { r1, r2, s, kappa, kc2 }) = Geometry::new(a, b, z) else {
+    let sum = a + b;
+    // a − b is exact when a and b are close (Sterbenz), which keeps r2 accurate for nearly
+    // touching rings.
+    let diff = a - b;
+    let zz = z * z;
+    let r1 = (sum * sum + zz).sqrt();
+    let r2 = (diff * diff + zz).sqrt();
+    if r2 == 0.0 {
         return MutualGradient::COINCIDENT;
-    };
-    // g = K(κ) − E(κ) without cancellation (one AGM gives K and g together; it equals
-    // R_F(0, κ'², 1) and (κ²/3) R_D(0, κ'², 1)); E(κ) = K − g loses at most ~1.4 digits,
-    // and only when the rings nearly touch (K ≈ 25 at κ'² = 1e-20).
+    }
+    let s = r1 + r2;
+    // Three divisions for the whole pair; the rest are products with these reciprocals (the
+    // divider is the bottleneck of this function). Products of a and b with the same
+    // reciprocal keep the matrix exactly symmetric under a ↔ b.
+    let inv_s = 1.0 / s;
+    let inv_r1 = 1.0 / r1;
+    let inv_r2 = 1.0 / r2;
+    let a_s = a * inv_s;
+    let b_s = b * inv_s;
+    let kappa = 4.0 * (a_s * b_s);
+    let kc2 = 4.0 * ((r1 * inv_s) * (r2 * inv_s));
+    // g = K(κ) − E(κ) without cancellation; E(κ) = K − g loses at most ~1.4 digits, and only
+    // when the rings nearly touch (K ≈ 25 at κ'² = 1e-20).
     let (k, g) = complete_k_and_difference(kappa * kappa, kc2);
     let e = k - g;
 
     // Dimensionless building blocks, written as ratios of lengths so that nothing
     // overflows or underflows for any physically sensible scale.
-    let ar = a / r1;
-    let br = b / r1;
-    let inv_r2 = 1.0 / r2;
-    let sum = a + b;
+    let ar = a * inv_r1;
+    let br = b * inv_r1;
     // b² − a² + z² and a² − b² + z², with (b − a)(b + a) exact-ish for close radii.
-    let qa = (b - a) * sum + z * z;
-    let qb = (a - b) * sum + z * z;
-    let ds_da = ds_dradius(a, b, z, r1, r2);
-    let ds_db = ds_dradius(b, a, z, r1, r2);
+    let qa = (b - a) * sum + zz;
+    let qb = diff * sum + zz;
+    let (ds_da, ds_db) = ds_both(a, b, z, inv_r1, inv_r2);
 
     let m = MU0 * s * g;
     // 4 a b² E q / (S r1² r2²) = 4 (a/S)(b/r1)² (q/r2²) E.
-    let dm_da = MU0 * (ds_da * g + 4.0 * (a / s) * br * br * (qa * inv_r2 * inv_r2) * e);
-    let dm_db = MU0 * (ds_db * g + 4.0 * (b / s) * ar * ar * (qb * inv_r2 * inv_r2) * e);
+    let dm_da = MU0 * (ds_da * g + 4.0 * a_s * br * br * (qa * inv_r2 * inv_r2) * e);
+    let dm_db = MU0 * (ds_db * g + 4.0 * b_s * ar * ar * (qb * inv_r2 * inv_r2) * e);
     // z [S g/(r1 r2) − 8 a² b² E/(S r1² r2²)] = (z/r2) [(S/r1) g − 8 (a/r1)(b/r1)(ab/(S r2)) E].
-    let dm_dz = MU0 * (z * inv_r2) * (s / r1 * g - 8.0 * ar * br * (a * b / (s * r2)) * e);
+    let dm_dz =
+        MU0 * (z * inv_r2) * (s * inv_r1 * g - 8.0 * (ar * br) * ((a * b) * inv_s * inv_r2) * e);
     MutualGradient { m, dm_da, dm_db, dm_dz }
 }
 

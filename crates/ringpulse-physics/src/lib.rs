@@ -12,6 +12,7 @@
 //! than a panic, and each function documents the values it accepts.
 
 pub mod elliptic;
+mod elliptic_fit;
 pub mod em;
 pub mod filament;
 pub mod inductance;

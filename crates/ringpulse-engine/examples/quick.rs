@@ -26,7 +26,7 @@ fn main() {
                         .ok()
                         .and_then(|s| s.parse::<f64>().ok())
                         .map(|stress| ringpulse_engine::flow::FlowLaw::Constant { stress }),
-                    exact_blocks: std::env::var_os("EXACT").is_some(),
+                    exact_coupling: std::env::var_os("EXACT").is_some(),
                 },
             )
         })

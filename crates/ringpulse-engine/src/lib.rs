@@ -7,6 +7,7 @@
 //! and computes the summary ([`results`]). Everything runs in memory: this crate writes no
 //! files and prints nothing.
 
+pub mod coupling;
 pub mod flow;
 pub mod mesh;
 pub mod motion;

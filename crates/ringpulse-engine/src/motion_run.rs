@@ -3,7 +3,7 @@
 
 use std::time::Instant;
 
-use crate::flow::{johnson_cook_set, FlowLaw, JohnsonCook};
+use crate::flow::{johnson_cook_set, Branch, FlowLaw, JohnsonCook};
 use nalgebra::DVector;
 use ringpulse_case::{Case, FlowStress};
 
@@ -25,10 +25,9 @@ pub struct MotionOptions {
     pub stop_radius: Option<f64>,
     /// Flow law override; `None` picks one from the material name (see [`flow_law_for`]).
     pub flow: Option<FlowLaw>,
-    /// Rebuild the moving blocks of the inductance matrix with the kernel at every evaluation
-    /// instead of updating them to first order between small displacements
-    /// ([`MovingNetwork::linearization_shift`]); slower, for checks. Default: false.
-    pub exact_blocks: bool,
+    /// Evaluate the coil–workpiece coupling with Maxwell's formula at every evaluation
+    /// instead of the tables of `coupling` (slower; for checks). Default: false.
+    pub exact_coupling: bool,
 }
 
 /// The flow law used for a material: a published Johnson–Cook set where one fits the
@@ -99,7 +98,7 @@ pub fn motion_options(case: &Case) -> MotionOptions {
             .workpiece
             .as_ref()
             .map(|t| flow_law_of_case(case.motion.flow_stress.as_ref(), &t.material)),
-        exact_blocks: false,
+        exact_coupling: false,
     }
 }
 
@@ -162,7 +161,9 @@ pub fn run_motion_with_progress(
         youngs_modulus: tube.material.youngs_modulus,
         flow: options.flow.unwrap_or_else(|| flow_law_for(&tube.material)),
     };
-    let net = MovingNetwork::new(
+    // The coupling tables are kept a hundred times more accurate than the stepper's
+    // relative tolerance, so that their error is lost in the stepper's.
+    let mut net = MovingNetwork::new(
         network,
         tube.wall,
         mech,
@@ -171,6 +172,7 @@ pub fn run_motion_with_progress(
         case.initial_temperature,
         stop,
         coil_limit,
+        1e-2 * case.solver.rel_tol,
     )?;
     let lay = net.layout();
     let nl = lay.nl;
@@ -202,8 +204,7 @@ pub fn run_motion_with_progress(
         max_step: (period / 10.0).min(t_end),
         max_steps: 5_000_000,
     };
-    let max_shift =
-        if options.exact_blocks { 0.0 } else { net.linearization_shift(settings.rel_tol) };
+    net.set_exact_coupling(options.exact_coupling);
     let mut y = DVector::zeros(lay.len);
     y[nl + slot::V] = 1.0;
     for f in 0..net.base.mesh.filaments.len() {
@@ -212,13 +213,18 @@ pub fn run_motion_with_progress(
 
     // Segments between events.
     let mut segments: Vec<MotionSegment> = Vec::new();
-    let mut flags = Flags { crowbarred: false, held: vec![false; nr] };
+    let mut flags = Flags::initial(nr);
     let mut t = 0.0;
     let mut crowbar_time = None;
     let mut impacts: Vec<(usize, f64, f64)> = Vec::new();
     let mut stopped: Option<String> = None;
-    // Each pass ends at an event: the crowbar, a ring reaching the stop, the coil, or the end.
-    for _ in 0..(4 * nr + 10) {
+    // Each pass ends at an event: the crowbar, a ring yielding, unloading or reaching the stop
+    // or the coil, or the end. A ring may yield and unload many times while it rings
+    // elastically about its final shape; the cap only guards against an endless loop.
+    let max_segments = 200 * nr + 100;
+    let mut first_step = 0.0;
+    let mut ended = false;
+    for _ in 0..max_segments {
         let mut seg = integrate_motion_segment(
             &net,
             circuit,
@@ -230,11 +236,15 @@ pub fn run_motion_with_progress(
             t_end,
             y.clone(),
             &settings,
-            max_shift,
+            first_step,
             progress,
         )?;
+        if seg.last_dt > 0.0 {
+            first_step = seg.last_dt;
+        }
         let Some((events, ta, tb)) = seg.event.clone() else {
             segments.push(seg);
+            ended = true;
             break;
         };
         // Locate each event in the step; the earliest ends the segment, and every event within
@@ -252,6 +262,13 @@ pub fn run_motion_with_progress(
                     }
                     Event::ThickWall(q) => {
                         bisect_zero(ta, tb, |s| net.wall_margin(q, &seg.state(s), &ms))
+                    }
+                    Event::Yield(q) => bisect_zero(ta, tb, |s| {
+                        net.yield_excess(q, &seg.state(s), &ms) - settings.rel_tol
+                    }),
+                    Event::Unload(q) => {
+                        let branch = seg.flags.branch[q];
+                        bisect_zero(ta, tb, |s| net.flow_speed(q, branch, &seg.state(s), &ms))
                     }
                 };
                 (event, t_e)
@@ -279,6 +296,18 @@ pub fn run_motion_with_progress(
                     y[lay.mech + mslot::W_IMPACT] += 0.5 * net.ring_mass(q) * v * v / scales.energy;
                     y[lay.rings + 4 * q + 1] = 0.0;
                     flags.held[q] = true;
+                    // Held, its stress stays what it was at the impact.
+                    net.to_elastic(q, flags.branch[q], &mut y, &ms);
+                    flags.branch[q] = Branch::Elastic;
+                }
+                Event::Yield(q) => {
+                    if !flags.held[q] {
+                        flags.branch[q] = net.yield_branch(q, &y, &ms);
+                    }
+                }
+                Event::Unload(q) => {
+                    net.to_elastic(q, flags.branch[q], &mut y, &ms);
+                    flags.branch[q] = Branch::Elastic;
                 }
                 Event::CoilContact(q) => {
                     stopped = Some(format!(
@@ -309,8 +338,18 @@ pub fn run_motion_with_progress(
             break;
         }
         if t >= t_end {
+            ended = true;
             break;
         }
+    }
+    if !ended && stopped.is_none() {
+        return Err(EngineError::Solver {
+            message: format!(
+                "more than {max_segments} events (yield, unload, impact) before t = {:.3} us; \
+                 the run stops rather than loop",
+                t * 1e6
+            ),
+        });
     }
     let t_stop = segments.last().map_or(0.0, |s| s.t_end);
     let segment_at = |s: f64| -> &MotionSegment {
@@ -349,7 +388,7 @@ pub fn run_motion_with_progress(
         let s = (k as f64 * dt_out).min(t_stop);
         let seg = segment_at(s);
         let ys = seg.state(s);
-        let ev = net.evaluate(&ys, &scales, &ms)?;
+        let ev = net.evaluate(&ys, &scales, &ms, &seg.flags.branch, true)?;
         let i0 = ev.x[0];
         traces.time.push(s);
         traces.coil_current.push(i0);
@@ -443,7 +482,8 @@ pub fn run_motion_with_progress(
     let tt = &traces.time;
     let ns = tt.len();
     let coil_current_at = |s: f64| -> f64 {
-        net.evaluate(&segment_at(s).state(s), &scales, &ms).map_or(0.0, |e| e.x[0])
+        let seg = segment_at(s);
+        net.evaluate(&seg.state(s), &scales, &ms, &seg.flags.branch, false).map_or(0.0, |e| e.x[0])
     };
     let k_peak = argmax_abs(i);
     let sign = if i[k_peak] >= 0.0 { 1.0 } else { -1.0 };
@@ -468,7 +508,7 @@ pub fn run_motion_with_progress(
 
     // Energy account.
     let y_end = segment_at(t_stop).state(t_stop);
-    let ev_end = net.evaluate(&y_end, &scales, &ms)?;
+    let ev_end = net.evaluate(&y_end, &scales, &ms, &segment_at(t_stop).flags.branch, true)?;
     let psi_end = y_end.rows(0, nl) * scales.psi;
     let v_end = y_end[nl + slot::V] * scales.volt;
     let mut kinetic = 0.5 * net.total_mass() * (y_end[lay.mech + mslot::VZ] * ms.velocity).powi(2);
@@ -481,8 +521,10 @@ pub fn run_motion_with_progress(
     // Plastic flow in the last 5 % of the run: without it, any speed left is elastic ringing
     // about a settled plastic shape (springback oscillation, undamped in this model).
     let y_late = segment_at(0.95 * t_stop).state(0.95 * t_stop);
-    let still_flowing = (0..nr)
-        .any(|q| (y_end[lay.rings + 4 * q + 3] - y_late[lay.rings + 4 * q + 3]).abs() > 1e-6);
+    let eq_strain =
+        |y: &DVector<f64>, q: usize| net.flow().equivalent_strain(y[lay.rings + 4 * q + 3]);
+    let still_flowing =
+        (0..nr).any(|q| (eq_strain(&y_end, q) - eq_strain(&y_late, q)).abs() > 1e-6);
     for q in 0..nr {
         let v = y_end[lay.rings + 4 * q + 1] * ms.velocity;
         kinetic += 0.5 * net.ring_mass(q) * v * v;
@@ -493,7 +535,7 @@ pub fn run_motion_with_progress(
         let eps = (ev_end.ring_radius[q] / net.ring_r0(q)).ln();
         strain_range[0] = strain_range[0].min(eps);
         strain_range[1] = strain_range[1].max(eps);
-        max_plastic = max_plastic.max(y_end[lay.rings + 4 * q + 3]);
+        max_plastic = max_plastic.max(eq_strain(&y_end, q));
     }
     let w_internal = y_end[lay.mech + mslot::W_INTERNAL] * scales.energy;
     let impact = y_end[lay.mech + mslot::W_IMPACT] * scales.energy;

@@ -533,12 +533,15 @@ pub fn draw_sweep_plots(
 #[derive(Debug, thiserror::Error)]
 pub enum MergeError {
     /// A file could not be read.
-    #[error("cannot read \"{path}\": {source}")]
+    ///
+    /// The message already holds the operating system's text, so `cause` is not also
+    /// reported as the error's source (an error chain would print it twice).
+    #[error("cannot read \"{path}\": {cause}")]
     Io {
         /// The file.
         path: PathBuf,
         /// The underlying error.
-        source: std::io::Error,
+        cause: std::io::Error,
     },
     /// The inputs are not parts of one sweep, or are incomplete.
     #[error("{0}")]
@@ -563,7 +566,7 @@ fn part_files(inputs: &[PathBuf]) -> Result<Vec<PathBuf>, MergeError> {
     for input in inputs {
         if input.is_dir() {
             let entries = fs::read_dir(input)
-                .map_err(|source| MergeError::Io { path: input.clone(), source })?;
+                .map_err(|cause| MergeError::Io { path: input.clone(), cause })?;
             let mut found: Vec<PathBuf> = entries
                 .filter_map(Result::ok)
                 .map(|e| e.path())
@@ -619,7 +622,7 @@ pub fn merge_parts(inputs: &[PathBuf]) -> Result<Merged, MergeError> {
     for csv_path in &files {
         let json_path = csv_path.with_extension("json");
         let read = |p: &Path| {
-            fs::read_to_string(p).map_err(|source| MergeError::Io { path: p.to_path_buf(), source })
+            fs::read_to_string(p).map_err(|cause| MergeError::Io { path: p.to_path_buf(), cause })
         };
         let text = read(csv_path)?;
         let sidecar: Value = serde_json::from_str(&read(&json_path)?).map_err(|e| {

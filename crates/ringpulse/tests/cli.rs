@@ -83,7 +83,14 @@ fn run_writes_results_and_summary_parses() {
     assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
     let stdout = String::from_utf8_lossy(&out.stdout);
     assert!(stdout.contains("peak coil current") && stdout.contains("CAUTION"), "{stdout}");
+    // The preview says it is no basis for a ratings decision, in the report and in summary.json.
+    let warning = "--coarse: a coarse preview is not valid for a ratings decision";
+    assert!(stdout.contains(warning), "{stdout}");
     let res = tmp.path().join("res");
+    let summary: Value =
+        serde_json::from_str(&std::fs::read_to_string(res.join("summary.json")).unwrap()).unwrap();
+    let warnings = summary["warnings"].as_array().unwrap();
+    assert!(warnings.iter().any(|w| w.as_str().unwrap().starts_with(warning)), "{warnings:?}");
     for f in [
         "timeseries.csv",
         "rings.csv",

@@ -36,6 +36,16 @@ fn sweep_args<'a>(out: &'a str, extra: &[&'a str]) -> Vec<&'a str> {
     v
 }
 
+/// Every command run with --coarse warns, even with --quiet, that the preview is no basis for
+/// a ratings decision.
+fn assert_coarse_warning(o: &Output) {
+    let stderr = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        stderr.contains("warning: --coarse: a coarse preview is not valid for a ratings decision"),
+        "{stderr}"
+    );
+}
+
 #[test]
 fn three_shards_in_separate_processes_merge_to_the_single_run_csv() {
     let tmp = tempfile::tempdir().unwrap();
@@ -47,6 +57,7 @@ fn three_shards_in_separate_processes_merge_to_the_single_run_csv() {
     args.insert(1, case);
     let o = run(&args);
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_coarse_warning(&o);
     // The three shards as concurrent processes, two of them via the job-array variable.
     let outs: Vec<String> = (1..=3).map(|i| dir(&format!("part{i}"))).collect();
     let mut children = Vec::new();
@@ -202,6 +213,7 @@ fn check_exits_0_when_ratings_pass_and_3_when_one_fails() {
         let out = tmp.path().join(format!("out{code}"));
         let o = run(&["check", case.to_str().unwrap(), "--coarse", "--out", out.to_str().unwrap()]);
         assert_eq!(o.status.code(), Some(code), "{}", String::from_utf8_lossy(&o.stderr));
+        assert_coarse_warning(&o);
         let table = String::from_utf8_lossy(&o.stdout);
         assert!(table.contains("switch peak current"), "{table}");
         assert_eq!(table.contains("FAIL"), code == 3, "{table}");
@@ -230,6 +242,7 @@ fn size_says_when_the_target_is_out_of_reach() {
     assert_eq!(o.status.code(), Some(6), "{}", String::from_utf8_lossy(&o.stderr));
     let stderr = String::from_utf8_lossy(&o.stderr);
     assert!(stderr.contains("cannot be met within the range of bank.voltage"), "{stderr}");
+    assert_coarse_warning(&o);
     let s: Value = serde_json::from_str(&text(&out.join("size.json"))).unwrap();
     assert!(s.to_string().contains("unreachable"));
     // A motion target with --fixed is refused as bad input, before any run.

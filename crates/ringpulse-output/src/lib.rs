@@ -1,8 +1,10 @@
 //! Output of ringpulse results: CSV tables, the JSON summary, plots and the terminal report.
 //!
-//! This is the only library crate that writes files. [`write_run`] is all-or-nothing: it
-//! writes into a sibling temporary directory and moves the files into place only when every
-//! one of them has been written, so a failure leaves no half-written output.
+//! This is the only library crate that writes files. [`write_run`] and the study writers go
+//! through [`write_atomically`], which is all-or-nothing: the files are written into a sibling
+//! temporary directory and moved into place only when every one of them has been written and
+//! every destination can take them; a failure while moving puts back what was there before,
+//! so no half-written output is left.
 
 use std::fs;
 use std::path::{Path, PathBuf};
@@ -72,12 +74,24 @@ impl Default for WriteOptions {
 #[derive(Debug, thiserror::Error)]
 pub enum OutputError {
     /// A file or directory could not be written.
-    #[error("cannot write \"{path}\": {source}")]
+    ///
+    /// The message already holds the operating system's text, so `cause` is not also
+    /// reported as the error's source (an error chain would print it twice).
+    #[error("cannot write \"{path}\": {cause}")]
     Io {
         /// The path concerned.
         path: PathBuf,
         /// The underlying error.
-        source: std::io::Error,
+        cause: std::io::Error,
+    },
+    /// A file of the output cannot take the place of what is at its destination; nothing was
+    /// moved into the output directory.
+    #[error("cannot write \"{path}\": {message}")]
+    Destination {
+        /// The destination path.
+        path: PathBuf,
+        /// What is in the way and what was expected.
+        message: String,
     },
     /// A plot could not be drawn.
     #[error("cannot draw plot \"{path}\": {message}")]
@@ -98,7 +112,7 @@ pub enum OutputError {
 }
 
 pub(crate) fn io_err(path: &Path) -> impl FnOnce(std::io::Error) -> OutputError + '_ {
-    move |source| OutputError::Io { path: path.to_path_buf(), source }
+    move |cause| OutputError::Io { path: path.to_path_buf(), cause }
 }
 
 /// Writes timeseries.csv, rings.csv, summary.json and the plots of a run into `out_dir`;
@@ -143,8 +157,17 @@ pub fn write_run(
 }
 
 /// Runs `write` against a fresh temporary directory beside `out_dir`, then moves what it wrote
-/// into `out_dir`. The closure returns the files it wrote (paths inside the temporary
-/// directory).
+/// into `out_dir`, all or nothing. The closure returns the files it wrote (paths directly
+/// inside the temporary directory); the result lists them inside `out_dir`.
+///
+/// - When `out_dir` does not exist, the temporary directory is renamed to `out_dir` in one
+///   step.
+/// - When it exists, every destination is checked first: `out_dir` must be a directory and no
+///   destination may be a directory; otherwise the call fails before anything is moved. Files
+///   of the same names are replaced, other files are left alone. If a move fails midway, the
+///   files already moved are removed and the files they replaced are put back.
+///
+/// The temporary directory (`<out_dir>.partial-<pid>`) is removed in every case.
 pub fn write_atomically(
     out_dir: &Path,
     write: impl FnOnce(&Path) -> Result<Vec<PathBuf>, OutputError>,
@@ -160,19 +183,110 @@ pub fn write_atomically(
         fs::remove_dir_all(&tmp).map_err(io_err(&tmp))?;
     }
     fs::create_dir_all(&tmp).map_err(io_err(&tmp))?;
-    let outcome = write(&tmp).and_then(|files| {
-        fs::create_dir_all(out_dir).map_err(io_err(out_dir))?;
-        let mut moved = Vec::with_capacity(files.len());
-        for f in files {
-            let Some(file_name) = f.file_name() else { continue };
-            let dest = out_dir.join(file_name);
-            fs::rename(&f, &dest).map_err(io_err(&dest))?;
-            moved.push(dest);
-        }
-        Ok(moved)
-    });
-    let _ = fs::remove_dir_all(&tmp);
+    let outcome = write(&tmp).and_then(|files| install(&tmp, out_dir, &files));
+    if tmp.exists() {
+        let _ = fs::remove_dir_all(&tmp);
+    }
     outcome
+}
+
+/// Moves `files` (inside `tmp`) into `out_dir`; see [`write_atomically`].
+fn install(tmp: &Path, out_dir: &Path, files: &[PathBuf]) -> Result<Vec<PathBuf>, OutputError> {
+    let mut names = Vec::with_capacity(files.len());
+    for f in files {
+        match f.file_name() {
+            Some(n) if f.parent() == Some(tmp) => names.push(n.to_os_string()),
+            _ => {
+                return Err(OutputError::Destination {
+                    path: f.clone(),
+                    message: format!(
+                        "not a file directly inside the temporary directory \"{}\"",
+                        tmp.display()
+                    ),
+                })
+            }
+        }
+    }
+    let dests: Vec<PathBuf> = names.iter().map(|n| out_dir.join(n)).collect();
+    match fs::symlink_metadata(out_dir) {
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
+            // Nothing there yet: the whole directory goes into place in one rename.
+            fs::rename(tmp, out_dir).map_err(io_err(out_dir))?;
+            return Ok(dests);
+        }
+        Err(e) => return Err(OutputError::Io { path: out_dir.to_path_buf(), cause: e }),
+        Ok(_) => {}
+    }
+    // A symbolic link to a directory is a fine output directory, so follow links here.
+    if !fs::metadata(out_dir).map_err(io_err(out_dir))?.is_dir() {
+        return Err(OutputError::Destination {
+            path: out_dir.to_path_buf(),
+            message: "it exists and is not a directory; expected a directory (or a path that \
+                      does not exist yet)"
+                .into(),
+        });
+    }
+    // Check every destination before anything moves.
+    let mut replaced = Vec::with_capacity(dests.len());
+    for dest in &dests {
+        match fs::symlink_metadata(dest) {
+            Err(e) if e.kind() == std::io::ErrorKind::NotFound => replaced.push(false),
+            Err(e) => return Err(OutputError::Io { path: dest.clone(), cause: e }),
+            Ok(m) if m.is_dir() => {
+                return Err(OutputError::Destination {
+                    path: dest.clone(),
+                    message: format!(
+                        "a directory of that name is in the way; expected a file or nothing \
+                         there (nothing was written to \"{}\")",
+                        out_dir.display()
+                    ),
+                })
+            }
+            Ok(_) => replaced.push(true),
+        }
+    }
+    // Move the files in, keeping each replaced file in the temporary directory until all
+    // are in place, so that a failure can put everything back.
+    let backup_dir = tmp.join(".replaced");
+    let mut done: Vec<(PathBuf, Option<PathBuf>)> = Vec::with_capacity(dests.len());
+    for ((name, dest), &had_file) in names.iter().zip(&dests).zip(&replaced) {
+        let step = || -> Result<Option<PathBuf>, OutputError> {
+            let backup = if had_file {
+                fs::create_dir_all(&backup_dir).map_err(io_err(&backup_dir))?;
+                let b = backup_dir.join(name);
+                fs::rename(dest, &b).map_err(io_err(dest))?;
+                Some(b)
+            } else {
+                None
+            };
+            if let Err(cause) = fs::rename(tmp.join(name), dest) {
+                if let Some(b) = &backup {
+                    let _ = fs::rename(b, dest);
+                }
+                return Err(OutputError::Io { path: dest.clone(), cause });
+            }
+            Ok(backup)
+        };
+        match step() {
+            Ok(backup) => done.push((dest.clone(), backup)),
+            Err(e) => {
+                roll_back(&done);
+                return Err(e);
+            }
+        }
+    }
+    Ok(dests)
+}
+
+/// Undoes the moves of [`install`], newest first: removes each file moved in and puts back
+/// the file it replaced.
+fn roll_back(done: &[(PathBuf, Option<PathBuf>)]) {
+    for (dest, backup) in done.iter().rev() {
+        let _ = fs::remove_file(dest);
+        if let Some(b) = backup {
+            let _ = fs::rename(b, dest);
+        }
+    }
 }
 
 #[cfg(test)]

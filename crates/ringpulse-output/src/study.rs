@@ -1,11 +1,13 @@
 //! Files and text of the studies: ratings.json and the ratings table, sweep.csv with its
 //! sidecar sweep.json, shard parts and their merge, sweep plots, size.json and the sizing text.
 //!
-//! sweep.csv holds results only (no timing, no host names), one row per variant in variant
-//! order, numbers in Rust's shortest round-trip form, so that the rows a shard writes are
-//! byte for byte the rows a single run writes, and merging the parts of a sharded sweep gives
-//! the single run's file. Where a result came from (ringpulse version, case SHA-256, the
-//! `--vary` specs, shards, wall time) goes into the sidecar JSON beside it.
+//! sweep.csv opens with two comment lines that trace it (`# ringpulse VERSION` and
+//! `# case_sha256 HASH`, the same in every shard), then holds results only (no timing, no host
+//! names), one row per variant in variant order, numbers in Rust's shortest round-trip form
+//! and counts as integers, so that the rows a shard writes are byte for byte the rows a single
+//! run writes, and merging the parts of a sharded sweep gives the single run's file. The rest
+//! of where a result came from (case path, the `--vary` specs, shards, wall time) goes into the
+//! sidecar JSON beside it.
 
 use std::collections::BTreeMap;
 use std::fs;
@@ -217,15 +219,28 @@ pub fn sweep_header(specs: &[VarySpec]) -> Vec<String> {
     h
 }
 
+/// A cell of a whole-number column: an integer when the value is one, else the number form.
+fn count_cell(v: f64) -> String {
+    if v.is_finite() && v == v.round() && v.abs() < 9.0e15 {
+        format!("{}", v as i64)
+    } else {
+        num(v)
+    }
+}
+
 /// One row's cells.
 fn row_cells(specs: &[VarySpec], row: &Row) -> Vec<String> {
     let mut cells = vec![row.variant.to_string()];
     for (s, v) in specs.iter().zip(&row.values) {
-        cells.push(if s.is_count() { format!("{}", v.round() as i64) } else { num(*v) });
+        cells.push(if s.is_count() { count_cell(v.round()) } else { num(*v) });
     }
     match &row.outcome {
         Ok(d) => {
-            cells.extend(d.metrics.iter().map(|m| m.map_or(String::new(), num)));
+            cells.extend(d.metrics.iter().zip(METRICS).map(|(value, metric)| match value {
+                None => String::new(),
+                Some(v) if metric.count => count_cell(*v),
+                Some(v) => num(*v),
+            }));
             if d.ratings.is_empty() {
                 cells.extend([String::new(), String::new(), String::new()]);
             } else {
@@ -254,10 +269,37 @@ fn csv_text(header: &[String], rows: &[Vec<String>]) -> Result<String, String> {
     String::from_utf8(bytes).map_err(|e| e.to_string())
 }
 
-/// The text of sweep.csv (or of a part) for these rows.
-pub fn sweep_csv(specs: &[VarySpec], rows: &[Row]) -> Result<String, String> {
+/// The comment lines that open sweep.csv and every part of it: the ringpulse version and the
+/// SHA-256 of the base case file, each on its own line.
+pub fn provenance_lines(version: &str, case_sha256: &str) -> String {
+    format!("# ringpulse {version}\n# case_sha256 {case_sha256}\n")
+}
+
+/// The ringpulse version and case SHA-256 of the comment lines that open a sweep table, and
+/// the rest of the text (header and rows).
+pub fn split_provenance(text: &str) -> Result<(&str, &str, &str), String> {
+    fn value<'a>(line: &'a str, prefix: &str) -> Option<&'a str> {
+        line.strip_prefix(prefix).filter(|v| !v.is_empty() && !v.contains(' '))
+    }
+    let expected = "two comment lines \"# ringpulse VERSION\" and \"# case_sha256 HASH\" before \
+                    the header";
+    let mut lines = text.splitn(3, '\n');
+    let (Some(first), Some(second), Some(rest)) = (lines.next(), lines.next(), lines.next()) else {
+        return Err(format!("expected {expected}"));
+    };
+    let version = value(first, "# ringpulse ")
+        .ok_or_else(|| format!("expected {expected}, got {first:?}"))?;
+    let sha = value(second, "# case_sha256 ")
+        .ok_or_else(|| format!("expected {expected}, got {second:?} on the second line"))?;
+    Ok((version, sha, rest))
+}
+
+/// The text of sweep.csv (or of a part) for these rows: the provenance lines of `meta`, the
+/// header and one row per variant.
+pub fn sweep_csv(meta: &RunMeta, specs: &[VarySpec], rows: &[Row]) -> Result<String, String> {
     let cells: Vec<Vec<String>> = rows.iter().map(|r| row_cells(specs, r)).collect();
-    csv_text(&sweep_header(specs), &cells)
+    let table = csv_text(&sweep_header(specs), &cells)?;
+    Ok(provenance_lines(&meta.version, &meta.case_sha256) + &table)
 }
 
 /// File stem of a sweep table: `sweep`, or `sweep.part-I-of-N` for a shard.
@@ -280,7 +322,7 @@ pub fn write_sweep(
 ) -> Result<Vec<PathBuf>, OutputError> {
     let stem = sweep_stem(meta.shard);
     let csv_path = dir.join(format!("{stem}.csv"));
-    let text = sweep_csv(specs, rows)
+    let text = sweep_csv(&meta.run, specs, rows)
         .map_err(|message| OutputError::Encode { path: csv_path.clone(), message })?;
     fs::write(&csv_path, &text).map_err(io_err(&csv_path))?;
     let mut files = vec![csv_path];
@@ -304,9 +346,12 @@ pub struct Table {
 }
 
 impl Table {
-    /// Parses CSV text (header first).
+    /// Parses CSV text (header first; lines that start with `#` are comments).
     pub fn parse(text: &str) -> Result<Table, String> {
-        let mut r = csv::ReaderBuilder::new().has_headers(true).from_reader(text.as_bytes());
+        let mut r = csv::ReaderBuilder::new()
+            .has_headers(true)
+            .comment(Some(b'#'))
+            .from_reader(text.as_bytes());
         let header: Vec<String> =
             r.headers().map_err(|e| e.to_string())?.iter().map(String::from).collect();
         let mut rows = Vec::new();
@@ -533,12 +578,15 @@ pub fn draw_sweep_plots(
 #[derive(Debug, thiserror::Error)]
 pub enum MergeError {
     /// A file could not be read.
-    #[error("cannot read \"{path}\": {source}")]
+    ///
+    /// The message already holds the operating system's text, so `cause` is not also
+    /// reported as the error's source (an error chain would print it twice).
+    #[error("cannot read \"{path}\": {cause}")]
     Io {
         /// The file.
         path: PathBuf,
         /// The underlying error.
-        source: std::io::Error,
+        cause: std::io::Error,
     },
     /// The inputs are not parts of one sweep, or are incomplete.
     #[error("{0}")]
@@ -563,7 +611,7 @@ fn part_files(inputs: &[PathBuf]) -> Result<Vec<PathBuf>, MergeError> {
     for input in inputs {
         if input.is_dir() {
             let entries = fs::read_dir(input)
-                .map_err(|source| MergeError::Io { path: input.clone(), source })?;
+                .map_err(|cause| MergeError::Io { path: input.clone(), cause })?;
             let mut found: Vec<PathBuf> = entries
                 .filter_map(Result::ok)
                 .map(|e| e.path())
@@ -605,7 +653,8 @@ fn index_list(v: &[usize]) -> String {
 ///
 /// Each part's sidecar (the `.json` beside its `.csv`) must describe the same sweep: the
 /// same ringpulse version, case SHA-256, `--vary` specs, design, resolution, variant count and
-/// number of shards. The headers must be equal, every shard must be given once, every row
+/// number of shards; and each part's comment lines (version and case SHA-256) must agree with
+/// its sidecar. The merged table opens with the same comment lines. The headers must be equal, every shard must be given once, every row
 /// must belong to its shard, and every variant must be present; missing variants are named.
 pub fn merge_parts(inputs: &[PathBuf]) -> Result<Merged, MergeError> {
     let files = part_files(inputs)?;
@@ -619,7 +668,7 @@ pub fn merge_parts(inputs: &[PathBuf]) -> Result<Merged, MergeError> {
     for csv_path in &files {
         let json_path = csv_path.with_extension("json");
         let read = |p: &Path| {
-            fs::read_to_string(p).map_err(|source| MergeError::Io { path: p.to_path_buf(), source })
+            fs::read_to_string(p).map_err(|cause| MergeError::Io { path: p.to_path_buf(), cause })
         };
         let text = read(csv_path)?;
         let sidecar: Value = serde_json::from_str(&read(&json_path)?).map_err(|e| {
@@ -636,7 +685,22 @@ pub fn merge_parts(inputs: &[PathBuf]) -> Result<Merged, MergeError> {
             )));
         };
         let (shard, shards, total) = (shard as usize, shards as usize, total as usize);
-        let table = Table::parse(&text)
+        let (version, sha, body) = split_provenance(&text)
+            .map_err(|e| invalid(format!("\"{}\" is not a sweep part: {e}", csv_path.display())))?;
+        // The comment lines trace the CSV on its own; they must agree with the sidecar, whose
+        // keys are compared across the parts below.
+        for (key, in_csv) in [("ringpulse_version", version), ("case_sha256", sha)] {
+            if sidecar[key].as_str() != Some(in_csv) {
+                return Err(invalid(format!(
+                    "\"{}\" and its sidecar \"{}\" disagree: {key} is {in_csv} in the CSV and {} \
+                     in the sidecar",
+                    csv_path.display(),
+                    json_path.display(),
+                    sidecar[key]
+                )));
+            }
+        }
+        let table = Table::parse(body)
             .map_err(|e| invalid(format!("\"{}\": unreadable CSV: {e}", csv_path.display())))?;
         match &first {
             None => first = Some((csv_path.clone(), sidecar.clone(), table.header.clone())),
@@ -712,7 +776,9 @@ pub fn merge_parts(inputs: &[PathBuf]) -> Result<Merged, MergeError> {
         return Err(invalid(format!("missing variants: {}{hint}", index_list(&missing))));
     }
     let all_rows: Vec<Vec<String>> = rows.into_values().collect();
-    let csv = csv_text(&header, &all_rows).map_err(invalid)?;
+    let version = sidecar0["ringpulse_version"].as_str().unwrap_or_default();
+    let sha = sidecar0["case_sha256"].as_str().unwrap_or_default();
+    let csv = provenance_lines(version, sha) + &csv_text(&header, &all_rows).map_err(invalid)?;
     let error_col = header.iter().position(|h| h == "error");
     let ratings_col = header.iter().position(|h| h == "ratings");
     let failed = error_col.map_or(0, |c| all_rows.iter().filter(|r| !r[c].is_empty()).count());
@@ -964,6 +1030,54 @@ mod tests {
         assert_eq!(column_unit("action_integral_A2s"), "A²s");
         assert_eq!(tick(6.0, ""), "6");
         assert_eq!(tick(150e6, "Pa"), "150.0 MPa");
+    }
+
+    fn meta() -> RunMeta {
+        RunMeta {
+            version: "9.8.7".into(),
+            case_path: "case.json".into(),
+            case_sha256: "ab".repeat(32),
+            description: "test".into(),
+        }
+    }
+
+    #[test]
+    fn sweep_csv_opens_with_provenance_and_writes_counts_as_integers() {
+        let specs = vec![ringpulse_study::parse_vary("coil.turns=4..5").unwrap()];
+        let mut metrics: Vec<Option<f64>> = METRICS.iter().map(|_| Some(1.5e3)).collect();
+        let k_fil = METRICS.iter().position(|m| m.name == "filaments").unwrap();
+        let k_stop = METRICS.iter().position(|m| m.name == "rings_at_stop").unwrap();
+        metrics[k_fil] = Some(42.0);
+        metrics[k_stop] = Some(0.0);
+        let row = Row {
+            variant: 0,
+            values: vec![4.0],
+            outcome: Ok(ringpulse_study::RowData {
+                metrics,
+                ratings: ringpulse_study::RatingsReport::default(),
+            }),
+        };
+        let text = sweep_csv(&meta(), &specs, &[row]).unwrap();
+        let (version, sha, body) = split_provenance(&text).unwrap();
+        assert_eq!((version, sha), ("9.8.7", "ab".repeat(32).as_str()));
+        assert!(text.starts_with(&format!("# ringpulse 9.8.7\n# case_sha256 {sha}\nvariant,")));
+        let table = Table::parse(&text).unwrap();
+        assert_eq!(Table::parse(body).unwrap(), table, "comments are skipped");
+        let cell = |name: &str| {
+            let k = table.header.iter().position(|h| h == name).unwrap();
+            table.rows[0][k].clone()
+        };
+        assert_eq!(cell("coil.turns"), "4");
+        assert_eq!(cell("filaments"), "42");
+        assert_eq!(cell("rings_at_stop"), "0");
+        assert_eq!(cell("peak_coil_current_A"), "1.5e3");
+    }
+
+    #[test]
+    fn provenance_lines_are_required() {
+        assert!(split_provenance("variant,x\n0,1\n").is_err());
+        assert!(split_provenance("# ringpulse 0.1.0\nvariant,x\n").is_err());
+        assert!(split_provenance("# ringpulse 0.1.0\n# case_sha256 \nvariant\n").is_err());
     }
 
     #[test]

@@ -2,8 +2,11 @@
 
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)]
 
+use std::error::Error as _;
+use std::path::{Path, PathBuf};
+
 use ringpulse_engine::{RingTraces, RunResult, Summary, Traces};
-use ringpulse_output::{write_run, RunMeta, WriteOptions};
+use ringpulse_output::{write_atomically, write_run, OutputError, RunMeta, WriteOptions};
 
 fn synthetic(n: usize) -> RunResult {
     let time: Vec<f64> = (0..n).map(|k| k as f64 * 1e-7).collect();
@@ -95,6 +98,10 @@ fn failure_leaves_nothing_behind() {
     let err = write_run(&blocker.join("out"), &meta(), &synthetic(50), &WriteOptions::default())
         .unwrap_err();
     assert!(err.to_string().starts_with("cannot write"), "{err}");
+    // The operating system's text appears once: in the message, not again as a source that an
+    // error chain (the CLI's `{:#}`) would append.
+    assert_eq!(err.to_string().matches("os error").count(), 1, "{err}");
+    assert!(err.source().is_none(), "{err}");
     let names: Vec<String> = tmp
         .path()
         .read_dir()
@@ -121,4 +128,83 @@ fn nan_and_empty_data_do_not_panic() {
     let files =
         write_run(&tmp.path().join("b"), &meta(), &empty, &WriteOptions::default()).unwrap();
     assert_eq!(files.len(), 4, "no workpiece plots and no rings.csv without rings");
+}
+
+/// The names in a directory, sorted.
+fn names(dir: &Path) -> Vec<String> {
+    let mut v: Vec<String> = dir
+        .read_dir()
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    v.sort();
+    v
+}
+
+#[test]
+fn directory_in_the_way_stops_before_anything_moves() {
+    let tmp = tempfile::tempdir().unwrap();
+    let out = tmp.path().join("out");
+    std::fs::create_dir_all(out.join("summary.json")).unwrap();
+    std::fs::write(out.join("summary.json/keep.txt"), "inside").unwrap();
+    std::fs::write(out.join("timeseries.csv"), "old timeseries").unwrap();
+    std::fs::write(out.join("notes.txt"), "mine").unwrap();
+    let err = write_run(&out, &meta(), &synthetic(50), &WriteOptions::default()).unwrap_err();
+    let text = err.to_string();
+    assert!(
+        matches!(&err, OutputError::Destination { path, .. } if path == &out.join("summary.json")),
+        "{text}"
+    );
+    assert!(text.contains("summary.json") && text.contains("directory"), "{text}");
+    // Nothing was moved: the old files and the directory are as they were, no new file came.
+    assert_eq!(names(&out), ["notes.txt", "summary.json", "timeseries.csv"]);
+    assert_eq!(std::fs::read_to_string(out.join("timeseries.csv")).unwrap(), "old timeseries");
+    assert_eq!(std::fs::read_to_string(out.join("summary.json/keep.txt")).unwrap(), "inside");
+    assert_eq!(names(tmp.path()), ["out"], "no temporary directory left");
+}
+
+#[test]
+fn output_path_that_is_a_file_is_refused() {
+    let tmp = tempfile::tempdir().unwrap();
+    let out = tmp.path().join("out");
+    std::fs::write(&out, "a file").unwrap();
+    let err = write_run(&out, &meta(), &synthetic(50), &WriteOptions::default()).unwrap_err();
+    assert!(matches!(err, OutputError::Destination { .. }), "{err}");
+    assert!(err.to_string().contains("not a directory"), "{err}");
+    assert_eq!(std::fs::read_to_string(&out).unwrap(), "a file");
+    assert_eq!(names(tmp.path()), ["out"]);
+}
+
+#[test]
+fn failure_while_moving_puts_back_what_was_there() {
+    let tmp = tempfile::tempdir().unwrap();
+    let out = tmp.path().join("out");
+    std::fs::create_dir(&out).unwrap();
+    std::fs::write(out.join("a.csv"), "old a").unwrap();
+    // The writer lists a second file that it never wrote: its move fails after a.csv (which
+    // replaces an older a.csv) and b.csv (new) have been moved in.
+    let err = write_atomically(&out, |dir| {
+        std::fs::write(dir.join("a.csv"), "new a").unwrap();
+        std::fs::write(dir.join("b.csv"), "new b").unwrap();
+        Ok(vec![dir.join("a.csv"), dir.join("b.csv"), dir.join("c.csv")])
+    })
+    .unwrap_err();
+    assert!(matches!(&err, OutputError::Io { path, .. } if path == &out.join("c.csv")), "{err}");
+    assert_eq!(names(&out), ["a.csv"], "b.csv removed again");
+    assert_eq!(std::fs::read_to_string(out.join("a.csv")).unwrap(), "old a", "a.csv restored");
+    assert_eq!(names(tmp.path()), ["out"]);
+}
+
+#[test]
+fn new_output_directory_arrives_whole() {
+    let tmp = tempfile::tempdir().unwrap();
+    let out = tmp.path().join("deeper/out");
+    let files: Vec<PathBuf> = write_atomically(&out, |dir| {
+        std::fs::write(dir.join("x.txt"), "x").unwrap();
+        Ok(vec![dir.join("x.txt")])
+    })
+    .unwrap();
+    assert_eq!(files, vec![out.join("x.txt")]);
+    assert_eq!(names(&out), ["x.txt"]);
+    assert_eq!(names(&tmp.path().join("deeper")), ["out"]);
 }

@@ -34,8 +34,8 @@ pub enum StudyError {
         /// What is wrong and what was expected.
         message: String,
     },
-    /// The base case does not validate.
-    #[error("{0}")]
+    /// The base case does not validate (shown as the case error itself, once).
+    #[error(transparent)]
     Case(#[from] ringpulse_case::CaseError),
     /// The engine failed on a run that the study needs (sizing cannot skip a point).
     #[error("the run with {what} failed: {message}")]

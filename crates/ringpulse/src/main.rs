@@ -30,6 +30,13 @@ const EXIT_OUTPUT: u8 = 5;
 /// Exit code: `size` cannot meet the target within the range.
 const EXIT_UNREACHABLE: u8 = 6;
 
+/// The warning of every command run with `--coarse`: one filament per turn section misses the
+/// current crowding that heats and loads the coil (docs/study.md, "Resolution, motion and run
+/// time").
+const COARSE_WARNING: &str = "--coarse: a coarse preview is not valid for a ratings decision; \
+its coil temperature rise, hoop stress and currents can differ a lot from those at the case's \
+resolution (docs/study.md); decide on ratings from a run without --coarse";
+
 #[derive(Parser, Debug)]
 #[command(
     name = "ringpulse",
@@ -53,7 +60,8 @@ enum Command {
         /// Output directory (created; files in it are replaced).
         #[arg(long, short, default_value = "out")]
         out: PathBuf,
-        /// Quick preview: one filament per turn section and about 40 workpiece rings.
+        /// Quick preview: one filament per turn section and about 40 workpiece rings (not valid
+        /// for a ratings decision).
         #[arg(long)]
         coarse: bool,
         /// Refine the skin-depth split: cells this many times smaller (2 = twice as fine).
@@ -76,7 +84,7 @@ enum Command {
         /// Output directory (created; ratings.json in it is replaced).
         #[arg(long, short, default_value = "out")]
         out: PathBuf,
-        /// Quick preview resolution.
+        /// Quick preview resolution (not valid for a ratings decision).
         #[arg(long)]
         coarse: bool,
         /// Keep the workpiece fixed (no motion), whatever the case says.
@@ -104,7 +112,7 @@ enum Command {
         /// Output directory (created; files of the same names are replaced).
         #[arg(long, short, default_value = "out")]
         out: PathBuf,
-        /// Run every variant in the quick preview resolution.
+        /// Run every variant in the quick preview resolution (not valid for a ratings decision).
         #[arg(long)]
         coarse: bool,
         /// Keep the workpiece fixed (no motion) in every variant, whatever the case says.
@@ -175,7 +183,7 @@ enum Command {
         /// Relative tolerance on the adjusted value (default 1e-3).
         #[arg(long, value_name = "TOL")]
         rel_tol: Option<f64>,
-        /// Quick preview resolution for every run.
+        /// Quick preview resolution for every run (not valid for a ratings decision).
         #[arg(long)]
         coarse: bool,
         /// Keep the workpiece fixed (no motion) in every run.
@@ -369,6 +377,9 @@ fn run(path: &Path, out: &Path, choices: RunChoices) -> Result<(), Failure> {
     }
     let mut result = run_result.map_err(engine_failure)?;
     let mut warnings = case_warnings;
+    if coarse {
+        warnings.push(COARSE_WARNING.to_string());
+    }
     warnings.append(&mut result.warnings);
     result.warnings = warnings;
     let meta = RunMeta {

@@ -27,8 +27,8 @@ use ringpulse_study::{
 };
 
 use crate::{
-    engine_failure, fail, read_case, Failure, EXIT_INPUT, EXIT_OUTPUT, EXIT_RATINGS,
-    EXIT_SIMULATION, EXIT_UNREACHABLE,
+    engine_failure, fail, read_case, Failure, COARSE_WARNING, EXIT_INPUT, EXIT_OUTPUT,
+    EXIT_RATINGS, EXIT_SIMULATION, EXIT_UNREACHABLE,
 };
 
 /// The default metrics plotted by `sweep` and `merge`.
@@ -84,6 +84,9 @@ pub fn check(
     }
     for w in &warnings {
         eprintln!("warning: {w}");
+    }
+    if coarse {
+        eprintln!("warning: {COARSE_WARNING}");
     }
     let result = ringpulse_engine::run(&case).map_err(engine_failure)?;
     let report = evaluate(&case, &result);
@@ -281,6 +284,9 @@ pub fn sweep(a: SweepArgs) -> Result<(), Failure> {
     }
     let (base, bytes) = read_base(&a.case)?;
     let all = generate(&specs, &design).map_err(study_failure)?;
+    if a.coarse {
+        eprintln!("warning: {COARSE_WARNING}");
+    }
     let total = all.len();
     let variants: Vec<_> = match shard {
         Some((i, n)) => all.into_iter().filter(|v| shard_of(v.index, n) == i).collect(),
@@ -422,6 +428,9 @@ pub fn size_cmd(a: SizeArgs) -> Result<(), Failure> {
         for w in &warnings {
             eprintln!("warning: {w}");
         }
+    }
+    if a.coarse {
+        eprintln!("warning: {COARSE_WARNING}");
     }
     let opts = SizeOptions {
         range,

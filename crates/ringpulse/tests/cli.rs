@@ -83,7 +83,14 @@ fn run_writes_results_and_summary_parses() {
     assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
     let stdout = String::from_utf8_lossy(&out.stdout);
     assert!(stdout.contains("peak coil current") && stdout.contains("CAUTION"), "{stdout}");
+    // The preview says it is no basis for a ratings decision, in the report and in summary.json.
+    let warning = "--coarse: a coarse preview is not valid for a ratings decision";
+    assert!(stdout.contains(warning), "{stdout}");
     let res = tmp.path().join("res");
+    let summary: Value =
+        serde_json::from_str(&std::fs::read_to_string(res.join("summary.json")).unwrap()).unwrap();
+    let warnings = summary["warnings"].as_array().unwrap();
+    assert!(warnings.iter().any(|w| w.as_str().unwrap().starts_with(warning)), "{warnings:?}");
     for f in [
         "timeseries.csv",
         "rings.csv",
@@ -161,4 +168,31 @@ fn command_line_errors_exit_2() {
     assert!(String::from_utf8_lossy(&refine.stderr)
         .contains("--refine: expected a factor in (0, 16], got -1"));
     assert!(leftovers(tmp.path()).is_empty());
+}
+
+/// An output or input error is printed once: the operating system's text and a case error are
+/// not repeated by the error chain.
+#[test]
+fn errors_are_not_repeated() {
+    let tmp = tempfile::tempdir().unwrap();
+    std::fs::write(tmp.path().join("file"), "x").unwrap();
+    let case = repo().join("cases/ring_launch_single_turn.json");
+    let args = ["run", case.to_str().unwrap(), "--coarse", "--fixed", "--no-plots", "--quiet"];
+    let out = run_in(tmp.path(), &[&args[..], &["--out", "file/sub"]].concat());
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(5), "{stderr}");
+    assert!(stderr.starts_with("error: cannot write"), "{stderr}");
+    assert_eq!(stderr.matches("os error").count(), 1, "{stderr}");
+    let merge = run_in(tmp.path(), &["merge", "missing.part-1-of-2.csv", "--out", "m"]);
+    let stderr = String::from_utf8_lossy(&merge.stderr);
+    assert_eq!(merge.status.code(), Some(2), "{stderr}");
+    assert_eq!(stderr.matches("os error").count(), 1, "{stderr}");
+    std::fs::write(tmp.path().join("bad.json"), r#"{"description": "no bank"}"#).unwrap();
+    let sweep = run_in(tmp.path(), &["sweep", "bad.json", "--vary", "bank.voltage=1kV,2kV"]);
+    let stderr = String::from_utf8_lossy(&sweep.stderr);
+    assert_eq!(sweep.status.code(), Some(2), "{stderr}");
+    assert_eq!(stderr.matches("invalid case").count(), 1, "{stderr}");
+    let mut left = leftovers(tmp.path());
+    left.sort();
+    assert_eq!(left, ["bad.json", "file"], "no output or temporary directory left");
 }

@@ -36,6 +36,16 @@ fn sweep_args<'a>(out: &'a str, extra: &[&'a str]) -> Vec<&'a str> {
     v
 }
 
+/// Every command run with --coarse warns, even with --quiet, that the preview is no basis for
+/// a ratings decision.
+fn assert_coarse_warning(o: &Output) {
+    let stderr = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        stderr.contains("warning: --coarse: a coarse preview is not valid for a ratings decision"),
+        "{stderr}"
+    );
+}
+
 #[test]
 fn three_shards_in_separate_processes_merge_to_the_single_run_csv() {
     let tmp = tempfile::tempdir().unwrap();
@@ -47,6 +57,7 @@ fn three_shards_in_separate_processes_merge_to_the_single_run_csv() {
     args.insert(1, case);
     let o = run(&args);
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_coarse_warning(&o);
     // The three shards as concurrent processes, two of them via the job-array variable.
     let outs: Vec<String> = (1..=3).map(|i| dir(&format!("part{i}"))).collect();
     let mut children = Vec::new();
@@ -76,8 +87,24 @@ fn three_shards_in_separate_processes_merge_to_the_single_run_csv() {
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let a = text(&tmp.path().join("single/sweep.csv"));
     let b = text(&tmp.path().join("merged/sweep.csv"));
-    assert_eq!(a.lines().count(), 10, "header and 9 variants");
+    assert_eq!(a.lines().count(), 12, "two comment lines, header and 9 variants");
     assert_eq!(a, b, "merged shards differ from the single run");
+    // Traceability in the CSV itself: the version and the SHA-256 of the case file's bytes
+    // (computed here by the output crate's hash, which a unit test checks against FIPS 180-2).
+    let sha = ringpulse_output::case_hash(&std::fs::read(demo()).unwrap());
+    let version = env!("CARGO_PKG_VERSION");
+    assert!(
+        a.starts_with(&format!("# ringpulse {version}\n# case_sha256 {sha}\nvariant,")),
+        "{}",
+        a.lines().take(3).collect::<Vec<_>>().join("\n")
+    );
+    // Counts are integers: the filament count of every row.
+    let lines: Vec<&str> = a.lines().skip(2).collect();
+    let k = lines[0].split(',').position(|h| h == "filaments").unwrap();
+    for row in &lines[1..] {
+        let cell = row.split(',').nth(k).unwrap();
+        assert!(cell.parse::<u64>().is_ok(), "filaments cell {cell:?} in {row}");
+    }
     // Each part holds its round-robin share.
     for (i, out) in outs.iter().enumerate() {
         let part = std::fs::read_dir(out)
@@ -90,7 +117,14 @@ fn three_shards_in_separate_processes_merge_to_the_single_run_csv() {
             .unwrap()
             .to_string_lossy()
             .contains(&format!("part-{}-of-3", i + 1)));
-        assert_eq!(text(&part).lines().count(), 4, "header and 3 rows in {}", part.display());
+        let part_text = text(&part);
+        assert_eq!(
+            part_text.lines().count(),
+            6,
+            "comments, header and 3 rows in {}",
+            part.display()
+        );
+        assert!(a.starts_with(part_text.lines().take(3).collect::<Vec<_>>().join("\n").as_str()));
     }
     // Traceability: version and case hash in the sidecar.
     let side: Value = serde_json::from_str(&text(&tmp.path().join("merged/sweep.json"))).unwrap();
@@ -104,6 +138,19 @@ fn three_shards_in_separate_processes_merge_to_the_single_run_csv() {
     let bad = dir("bad");
     let o = run(&["merge", "--quiet", "--out", &bad, &outs[0], &outs[1], &other]);
     assert_eq!(o.status.code(), Some(2), "{}", String::from_utf8_lossy(&o.stderr));
+    assert!(!Path::new(&bad).exists());
+    // A part whose comment lines disagree with its sidecar is refused.
+    let part1 = std::fs::read_dir(&outs[0])
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .find(|p| p.extension().is_some_and(|x| x == "csv"))
+        .unwrap();
+    let tampered = text(&part1).replacen(&sha, &"0".repeat(64), 1);
+    std::fs::write(&part1, tampered).unwrap();
+    let o = run(&["merge", "--quiet", "--out", &bad, &outs[0], &outs[1], &outs[2]]);
+    let stderr = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{stderr}");
+    assert!(stderr.contains("disagree: case_sha256"), "{stderr}");
     assert!(!Path::new(&bad).exists());
 }
 
@@ -126,7 +173,8 @@ fn a_sweep_with_an_invalid_variant_completes_and_reports_its_error() {
     ]);
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let csv = text(&out.join("sweep.csv"));
-    let lines: Vec<&str> = csv.lines().collect();
+    // After the two comment lines (version and case hash): the header and three rows.
+    let lines: Vec<&str> = csv.lines().skip_while(|l| l.starts_with('#')).collect();
     assert_eq!(lines.len(), 4);
     let header: Vec<&str> = lines[0].split(',').collect();
     let err_col = header.iter().position(|h| *h == "error").unwrap();
@@ -165,6 +213,7 @@ fn check_exits_0_when_ratings_pass_and_3_when_one_fails() {
         let out = tmp.path().join(format!("out{code}"));
         let o = run(&["check", case.to_str().unwrap(), "--coarse", "--out", out.to_str().unwrap()]);
         assert_eq!(o.status.code(), Some(code), "{}", String::from_utf8_lossy(&o.stderr));
+        assert_coarse_warning(&o);
         let table = String::from_utf8_lossy(&o.stdout);
         assert!(table.contains("switch peak current"), "{table}");
         assert_eq!(table.contains("FAIL"), code == 3, "{table}");
@@ -193,6 +242,7 @@ fn size_says_when_the_target_is_out_of_reach() {
     assert_eq!(o.status.code(), Some(6), "{}", String::from_utf8_lossy(&o.stderr));
     let stderr = String::from_utf8_lossy(&o.stderr);
     assert!(stderr.contains("cannot be met within the range of bank.voltage"), "{stderr}");
+    assert_coarse_warning(&o);
     let s: Value = serde_json::from_str(&text(&out.join("size.json"))).unwrap();
     assert!(s.to_string().contains("unreachable"));
     // A motion target with --fixed is refused as bad input, before any run.

@@ -61,9 +61,9 @@ const EXAMPLE: &str = r#"{
     "max_aspect": 1.5
   },
   "solver": {
-    "notes": "Optional. rel_tol: relative tolerance, default 1e-7, in (0, 0.01]. abs_tol: absolute tolerance on the scaled state, default 1e-9, > 0. end_time: s, > 0, default three estimated ringing periods. output_step: output sampling interval, s, > 0, default end_time / 1000 (end_time / 500 with motion); at most 1e6 samples.",
-    "rel_tol": 1e-7,
-    "abs_tol": 1e-9,
+    "notes": "Optional. rel_tol: relative tolerance, in (0, 0.01], default 1e-6 with motion and 1e-7 at fixed geometry. abs_tol: absolute tolerance on the scaled state, > 0, default 1e-6 with motion and 1e-9 at fixed geometry. end_time: s, > 0, default three estimated ringing periods. output_step: output sampling interval, s, > 0, default end_time / 1000 (end_time / 500 with motion); at most 1e6 samples.",
+    "rel_tol": 1e-6,
+    "abs_tol": 1e-6,
     "end_time": "300 us",
     "output_step": "0.1 us"
   },

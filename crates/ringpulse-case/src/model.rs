@@ -267,15 +267,29 @@ pub enum Resolution {
 /// Transient solver settings.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SolverSettings {
-    /// Relative tolerance of the adaptive stepper. Default: 1e-7. Range (0, 1e-2].
-    pub rel_tol: f64,
-    /// Absolute tolerance on the scaled state (amps, volts and webers are scaled to order one
-    /// first). Default: 1e-9. Must be > 0.
-    pub abs_tol: f64,
+    /// Relative tolerance of the adaptive stepper, if the case sets it. Range (0, 1e-2].
+    /// Default ([`SolverSettings::tolerances`]): 1e-7 at fixed geometry, 1e-6 with motion.
+    pub rel_tol: Option<f64>,
+    /// Absolute tolerance on the scaled state (amps, volts, webers and the ring states are
+    /// scaled to order one first), if the case sets it. Must be > 0. Default: 1e-9 at fixed
+    /// geometry, 1e-6 with motion.
+    pub abs_tol: Option<f64>,
     /// End time of the transient, in seconds. `None`: three periods of the estimated ringing.
     pub end_time: Option<f64>,
     /// Output sampling interval, in seconds. `None`: end time / 1000 (end time / 500 with motion).
     pub output_step: Option<f64>,
+}
+
+impl SolverSettings {
+    /// The (relative, absolute) tolerances of a run at fixed geometry (`moving` false) or
+    /// with the workpiece moving: the case's values, else the defaults of that kind of run
+    /// (`validate::defaults`: 1e-7 and 1e-9 at fixed geometry, 1e-6 and 1e-6 with motion).
+    pub fn tolerances(&self, moving: bool) -> (f64, f64) {
+        use crate::validate::defaults as d;
+        let (rel, abs) =
+            if moving { (d::MOTION_REL_TOL, d::MOTION_ABS_TOL) } else { (d::REL_TOL, d::ABS_TOL) };
+        (self.rel_tol.unwrap_or(rel), self.abs_tol.unwrap_or(abs))
+    }
 }
 
 /// Motion of the workpiece.

@@ -65,12 +65,20 @@ fn defaults_and_limits_are_documented() {
         (
             "rel_tol",
             format!(
-                "| `rel_tol` | plain number | no | {:e} | > 0 and <= {:e} |",
+                "| `rel_tol` | plain number | no | {:e} (fixed geometry), {:e} (motion) | > 0 and <= {:e} |",
                 d::REL_TOL,
+                d::MOTION_REL_TOL,
                 d::REL_TOL_MAX
             ),
         ),
-        ("abs_tol", format!("| `abs_tol` | plain number | no | {:e} |", d::ABS_TOL)),
+        (
+            "abs_tol",
+            format!(
+                "| `abs_tol` | plain number | no | {:e} (fixed geometry), {:e} (motion) |",
+                d::ABS_TOL,
+                d::MOTION_ABS_TOL
+            ),
+        ),
         ("initial_temperature", format!("| no | {} K (20 °C) |", d::INITIAL_TEMPERATURE)),
         ("cell_over_skin_depth", format!("| no | {:.1} | > 0 |", d::CELL_OVER_SKIN_DEPTH)),
         ("output samples", format!("{:e} output samples", d::MAX_OUTPUT_SAMPLES)),

@@ -47,8 +47,8 @@ fn example_validates_without_warnings() {
     assert_eq!(case.discretization.mode, Resolution::SkinDepth { cell_over_skin_depth: 1.0 });
     assert_eq!(case.discretization.max_filaments, 4000);
     assert_eq!(case.discretization.max_aspect, 1.5);
-    assert_eq!(case.solver.rel_tol, 1e-7);
-    assert_eq!(case.solver.abs_tol, 1e-9);
+    assert_eq!(case.solver.rel_tol, Some(1e-6));
+    assert_eq!(case.solver.abs_tol, Some(1e-6));
     assert!(case.solver.end_time.is_some_and(|t| close(t, 300e-6)));
     assert!(case.solver.output_step.is_some_and(|t| close(t, 0.1e-6)));
     assert!(close(case.initial_temperature, 293.15));

@@ -18,8 +18,11 @@ fn defaults_are_filled_in() {
     assert_eq!(c.discretization.mode, Resolution::SkinDepth { cell_over_skin_depth: 1.0 });
     assert_eq!(c.discretization.max_filaments, 4000);
     assert_eq!(c.discretization.max_aspect, 1.5);
-    assert_eq!(c.solver.rel_tol, 1e-7);
-    assert_eq!(c.solver.abs_tol, 1e-9);
+    // Unset: the run picks the default of its kind (fixed geometry or motion).
+    assert_eq!(c.solver.rel_tol, None);
+    assert_eq!(c.solver.abs_tol, None);
+    assert_eq!(c.solver.tolerances(false), (1e-7, 1e-9));
+    assert_eq!(c.solver.tolerances(true), (1e-6, 1e-6));
     assert_eq!(c.solver.end_time, None);
     assert_eq!(c.solver.output_step, None);
     assert_eq!(c.initial_temperature, 293.15);
@@ -166,8 +169,9 @@ fn solver_settings_are_checked() {
         json!({ "rel_tol": 1e-2, "abs_tol": 1e-6, "end_time": "200 us", "output_step": "1 us" }),
     );
     let (c, _) = ok(&case);
-    assert_eq!(c.solver.rel_tol, 1e-2);
-    assert_eq!(c.solver.abs_tol, 1e-6);
+    assert_eq!(c.solver.rel_tol, Some(1e-2));
+    assert_eq!(c.solver.abs_tol, Some(1e-6));
+    assert_eq!(c.solver.tolerances(true), (1e-2, 1e-6));
     assert!(c.solver.end_time.is_some_and(|t| close(t, 200e-6)));
     set(&mut case, "solver.rel_tol", json!(0));
     set(&mut case, "solver.abs_tol", json!("1 mm"));

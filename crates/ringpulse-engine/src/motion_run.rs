@@ -161,6 +161,7 @@ pub fn run_motion_with_progress(
         youngs_modulus: tube.material.youngs_modulus,
         flow: options.flow.unwrap_or_else(|| flow_law_for(&tube.material)),
     };
+    let (rel_tol, abs_tol) = case.solver.tolerances(true);
     // The coupling tables are kept a hundred times more accurate than the stepper's
     // relative tolerance, so that their error is lost in the stepper's.
     let mut net = MovingNetwork::new(
@@ -172,7 +173,7 @@ pub fn run_motion_with_progress(
         case.initial_temperature,
         stop,
         coil_limit,
-        1e-2 * case.solver.rel_tol,
+        1e-2 * rel_tol,
     )?;
     let lay = net.layout();
     let nl = lay.nl;
@@ -199,8 +200,8 @@ pub fn run_motion_with_progress(
         crowbar_resistance: bank.crowbar.as_ref().map_or(0.0, |c| c.resistance),
     };
     let settings = StepperSettings {
-        rel_tol: case.solver.rel_tol,
-        abs_tol: case.solver.abs_tol,
+        rel_tol,
+        abs_tol,
         max_step: (period / 10.0).min(t_end),
         max_steps: 5_000_000,
     };

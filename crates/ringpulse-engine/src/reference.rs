@@ -115,7 +115,7 @@ pub fn simple_case(
             max_filaments: 4000,
             max_aspect: 1.5,
         },
-        solver: SolverSettings { rel_tol: 1e-7, abs_tol: 1e-9, end_time: None, output_step: None },
+        solver: SolverSettings { rel_tol: None, abs_tol: None, end_time: None, output_step: None },
         initial_temperature: 293.15,
         ratings: Ratings::default(),
         motion: MotionSettings::default(),
@@ -166,8 +166,8 @@ pub fn series_rlc_case() -> Case {
         coil(1, 0.03, 4e-3, 4e-3, 4e-3, Some(Split { radial: 1, axial: 1 })),
         None,
     );
-    case.solver.rel_tol = 1e-10;
-    case.solver.abs_tol = 1e-12;
+    case.solver.rel_tol = Some(1e-10);
+    case.solver.abs_tol = Some(1e-12);
     case
 }
 

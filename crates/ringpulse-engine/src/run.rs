@@ -286,9 +286,10 @@ pub fn run_with_probes(
         external_resistance: bank.resistance + bank.feeder_resistance,
         crowbar_resistance: bank.crowbar.as_ref().map_or(0.0, |c| c.resistance),
     };
+    let (rel_tol, abs_tol) = case.solver.tolerances(false);
     let settings = StepperSettings {
-        rel_tol: case.solver.rel_tol,
-        abs_tol: case.solver.abs_tol,
+        rel_tol,
+        abs_tol,
         max_step: (period / 10.0).min(t_end),
         max_steps: 5_000_000,
     };

@@ -25,8 +25,8 @@ fn frozen_motion_equals_fixed_geometry() {
     wp.material.density = 1e30;
     wp.material.temperature_coefficient = 0.0;
     case.coil.material.temperature_coefficient = 0.0;
-    case.solver.rel_tol = 1e-9;
-    case.solver.abs_tol = 1e-11;
+    case.solver.rel_tol = Some(1e-9);
+    case.solver.abs_tol = Some(1e-11);
     let fixed = run_prepared(&case, prepare(&case).unwrap()).unwrap();
     let moving = run_motion(&case, prepare(&case).unwrap(), &MotionOptions::default()).unwrap();
     let (a, b) = (&fixed.summary, &moving.summary);
@@ -104,8 +104,8 @@ fn joule_heating_matches_closed_form() {
         Some(tube(40e-3, 1e-3, 5e-3, "aluminium_6061_t6", Some(Split { radial: 1, axial: 2 }))),
     );
     case.workpiece.as_mut().unwrap().z_center = 0.3;
-    case.solver.rel_tol = 1e-10;
-    case.solver.abs_tol = 1e-12;
+    case.solver.rel_tol = Some(1e-10);
+    case.solver.abs_tol = Some(1e-12);
     let r = run_motion(&case, prepare(&case).unwrap(), &MotionOptions::default()).unwrap();
     let m = &case.coil.material;
     let area = 2e-3 * 2e-3;
@@ -142,7 +142,10 @@ fn constant_flow_stress_override_is_used() {
 /// at the solver's level.
 #[test]
 fn tabulated_coupling_matches_the_kernel() {
-    let case = coarse_expansion();
+    // Tight tolerances, so that the comparison resolves differences far below the defaults.
+    let mut case = coarse_expansion();
+    case.solver.rel_tol = Some(1e-8);
+    case.solver.abs_tol = Some(1e-10);
     let opts = MotionOptions { stop_radius: Some(28.5e-3), flow: None, exact_coupling: false };
     let exact_opts = MotionOptions { exact_coupling: true, ..opts };
     let a = run_motion(&case, prepare(&case).unwrap(), &opts).unwrap();

@@ -125,7 +125,69 @@ pub fn format_report(meta: &RunMeta, r: &RunResult) -> String {
         row(&mut out, "peak net radial force", &eng(s.peak_radial_force, "N"));
         row(&mut out, "peak net axial force", &eng(s.peak_axial_force, "N"));
         if let Some(t) = s.peak_workpiece_temperature {
-            row(&mut out, "hottest workpiece filament", &format!("{t:.0} K (adiabatic estimate)"));
+            let how = if s.motion.is_some() { "coupled heating" } else { "adiabatic estimate" };
+            row(&mut out, "hottest workpiece filament", &format!("{t:.0} K ({how})"));
+        }
+    }
+    if let Some(m) = &s.motion {
+        out.push_str(
+            "motion
+",
+        );
+        row(
+            &mut out,
+            "largest displacement",
+            &format!(
+                "{} at z = {:.2} mm",
+                eng(m.max_displacement, "m"),
+                m.max_displacement_z * 1e3
+            ),
+        );
+        row(&mut out, "largest radial velocity", &eng(m.max_velocity, "m/s"));
+        match m.stop_radius {
+            Some(rs) => {
+                let impact = match (m.first_impact_time, m.max_impact_velocity) {
+                    (Some(t), Some(v)) => format!(
+                        "{} rings reached it, first at {}, fastest impact {}",
+                        m.rings_at_stop,
+                        eng(t, "s"),
+                        eng(v, "m/s")
+                    ),
+                    _ => "no ring reached it".to_string(),
+                };
+                row(&mut out, &format!("die/mandrel at {}", eng(rs, "m")), &impact);
+            }
+            None => row(&mut out, "die/mandrel", "none"),
+        }
+        row(
+            &mut out,
+            "final hoop strain",
+            &format!(
+                "{:.2} % to {:.2} % (plastic up to {:.2} %)",
+                100.0 * m.final_strain_range[0],
+                100.0 * m.final_strain_range[1],
+                100.0 * m.max_plastic_strain
+            ),
+        );
+        row(&mut out, "largest strain rate", &format!("{:.3e} 1/s", m.max_strain_rate));
+        if m.axial_displacement != 0.0 {
+            row(
+                &mut out,
+                "axial travel",
+                &format!(
+                    "{} (at {} at the end)",
+                    eng(m.axial_displacement, "m"),
+                    eng(m.axial_velocity, "m/s")
+                ),
+            );
+        }
+        row(
+            &mut out,
+            "efficiency (plastic work / stored)",
+            &format!("{:.1} %", 100.0 * m.efficiency),
+        );
+        if let Some(msg) = &m.stopped {
+            row(&mut out, "run stopped", msg);
         }
     }
     let e = &s.energy;
@@ -137,6 +199,14 @@ pub fn format_report(meta: &RunMeta, r: &RunResult) -> String {
     row(&mut out, "dissipated in workpiece", &share(e.workpiece));
     if e.crowbar != 0.0 {
         row(&mut out, "dissipated in crowbar", &share(e.crowbar));
+    }
+    if s.motion.is_some() {
+        row(&mut out, "plastic work", &share(e.plastic));
+        row(&mut out, "kinetic energy left", &share(e.kinetic));
+        row(&mut out, "elastic energy left", &share(e.elastic));
+        if e.impact != 0.0 {
+            row(&mut out, "lost at die impacts", &share(e.impact));
+        }
     }
     row(&mut out, "left in magnetic field", &share(e.magnetic));
     row(&mut out, "left in capacitor", &share(e.capacitor));

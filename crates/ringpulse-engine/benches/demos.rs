@@ -2,10 +2,11 @@
 //! sampling and summary; no plotting), at the default one-skin-depth resolution and in the
 //! coarse preview, plus the series-RLC reference problem of the tests.
 //!
-//! Run with `cargo bench -p ringpulse-engine --bench demos`; `RINGPULSE_BENCH_FULL=1` adds the
-//! motion runs at default resolution (about a minute each). The engine is single-threaded, so
-//! the figures are for one core. Targets (engine issue): expansion demo at default resolution
-//! under 250 ms, its coarse preview under 10 ms. Results are recorded in docs/performance.md.
+//! Run with `cargo bench -p ringpulse-engine --bench demos` (a few minutes: the moving runs at
+//! default resolution take seconds each). The engine is single-threaded, so the figures are
+//! for one core. Targets: fixed geometry (engine issue), expansion demo at default resolution
+//! under 250 ms and its coarse preview under 10 ms; with motion (motion issue), under 1 s and
+//! 50 ms. Results are recorded in docs/performance.md.
 
 use std::path::PathBuf;
 use std::time::Instant;
@@ -32,7 +33,7 @@ fn report(name: &str, case: &Case, repeats: usize, motion: bool) {
     match time_case(case, repeats, motion) {
         Ok((t, r)) => println!(
             "{name:<44} {:>9.2} ms  filaments {:>5} (coil {:>4}, workpiece {:>4})  steps {:>5} rejected {:>3} \
-             rhs {:>6}  assembly {:>7.2} ms  stepping {:>7.2} ms",
+             rhs {:>6}  segments {:>3}  assembly {:>7.2} ms  stepping {:>7.2} ms",
             t * 1e3,
             r.mesh.coil_filaments + r.mesh.workpiece_filaments,
             r.mesh.coil_filaments,
@@ -40,6 +41,7 @@ fn report(name: &str, case: &Case, repeats: usize, motion: bool) {
             r.stats.steps,
             r.stats.rejected_steps,
             r.stats.rhs_evaluations,
+            r.stats.segments,
             r.stats.assembly_time * 1e3,
             r.stats.stepping_time * 1e3
         ),
@@ -73,11 +75,8 @@ fn main() {
         coarse.discretization.mode = Resolution::Coarse { tube_rings: 40 };
         report(&format!("{stem} fixed (coarse)"), &coarse, 5, false);
         if case.motion.enabled {
-            report(&format!("{stem} motion (coarse)"), &coarse, 3, true);
-            // One run only: a default-resolution motion run takes about a minute.
-            if std::env::var_os("RINGPULSE_BENCH_FULL").is_some() {
-                report(&format!("{stem} motion (default)"), &case, 1, true);
-            }
+            report(&format!("{stem} motion (coarse)"), &coarse, 5, true);
+            report(&format!("{stem} motion (default)"), &case, 3, true);
         }
     }
 }

@@ -42,6 +42,24 @@ pub enum EngineError {
         /// The limit in force.
         limit: usize,
     },
+    /// The split makes the network so stiff that the explicit stepper would crawl.
+    #[error(
+        "refused: the split gives eddy modes that decay at {rate:.3e} 1/s, so the stepper would \
+         need about {steps:.0} steps for the {end_time:.3e} s of the run (limit {limit:.0}); \
+         offending split: {split}; use near-square cells (aspect ratio <= 1.5) or a coarser split"
+    )]
+    TooStiff {
+        /// Fastest decay rate of the network, in 1/s.
+        rate: f64,
+        /// Steps the stability limit of the stepper would need.
+        steps: f64,
+        /// End time of the run, in seconds.
+        end_time: f64,
+        /// The refusal limit on the step count.
+        limit: f64,
+        /// The conductor splits of the mesh.
+        split: String,
+    },
     /// The inductance matrix is not positive definite.
     #[error(
         "the inductance matrix is not positive definite (checked by its Cholesky factorisation); \

@@ -627,11 +627,15 @@ impl MovingNetwork {
         ws.c.transpose_to(&mut ws.ct);
         ws.s.gemm(-1.0, &ws.ct, &ws.c, 1.0);
         let s = std::mem::replace(&mut ws.s, DMatrix::zeros(0, 0));
-        let chol: Cholesky<f64, Dyn> =
-            Cholesky::new(s).ok_or_else(|| EngineError::IndefiniteInductance {
+        let Some(chol) = Cholesky::<f64, Dyn>::new(s) else {
+            // The factorisation consumed the buffer: give it back before failing, so that the
+            // next evaluation (the stepper retries with a shorter step) finds it whole.
+            ws.s = DMatrix::zeros(nw, nw);
+            return Err(EngineError::IndefiniteInductance {
                 conductor: "the moving workpiece (cells too close to the coil or too deformed)"
                     .into(),
-            })?;
+            });
+        };
         let nl = lay.nl;
         let psi = y.rows(0, nl) * scales.psi;
         // φ = L_A⁻¹ ψ_c, x_w = S⁻¹ (ψ_w − Cᵀ φ), ξ = φ − C x_w, x_c = L_A⁻ᵀ ξ, with C = U G:
@@ -873,6 +877,11 @@ pub struct MotionRhs<'a> {
     flags: Flags,
     watch_crowbar: bool,
     last: RefCell<Option<EngineError>>,
+    /// Failed evaluations since the last accepted step, and in the whole segment.
+    failures: std::cell::Cell<(u32, u32)>,
+    /// A failure the stepper cannot step around: every evaluation after it returns NaN, so
+    /// that the step size underflows at once instead of the run crawling on.
+    fatal: RefCell<Option<EngineError>>,
     last_t: f64,
     last_y: Option<DVector<f64>>,
     /// The events that stopped the segment, with their bracket (t_before, t_after).
@@ -909,6 +918,8 @@ impl<'a> MotionRhs<'a> {
             flags,
             watch_crowbar,
             last: RefCell::new(None),
+            failures: std::cell::Cell::new((0, 0)),
+            fatal: RefCell::new(None),
             last_t: t0,
             last_y: None,
             event: None,
@@ -920,22 +931,37 @@ impl<'a> MotionRhs<'a> {
         }
     }
 
-    /// The first error met while evaluating (the stepper cannot return one).
+    /// The first error met while evaluating (the stepper cannot return one): the one that
+    /// ended the segment, else the last one not followed by an accepted step.
     pub fn take_error(&self) -> Option<EngineError> {
-        self.last.borrow_mut().take()
+        self.fatal.borrow_mut().take().or_else(|| self.last.borrow_mut().take())
     }
 
     /// Time derivative of a scaled state.
     pub fn derivative(&self, y: &DVector<f64>, dy: &mut DVector<f64>) {
         dy.fill(0.0);
+        if self.fatal.borrow().is_some() {
+            dy.fill(f64::NAN);
+            return;
+        }
         let ev = match self.net.evaluate(y, &self.scales, &self.ms, &self.flags.branch, false) {
             Ok(ev) => ev,
             Err(e) => {
-                let mut slot_err = self.last.borrow_mut();
-                if slot_err.is_none() {
-                    *slot_err = Some(e);
+                // A NaN derivative makes the stepper reject and shrink. A trial step that
+                // overshoots into an impossible geometry is stepped around that way; a state
+                // that keeps failing (the cells deforming past a positive definite inductance
+                // matrix) would make the stepper crawl, so after 30 failures without progress,
+                // or 500 in the segment, the segment ends with the error.
+                let (since, total) = self.failures.get();
+                self.failures.set((since + 1, total + 1));
+                if since + 1 > 30 || total + 1 > 500 {
+                    *self.fatal.borrow_mut() = Some(e);
+                } else {
+                    let mut slot_err = self.last.borrow_mut();
+                    if slot_err.is_none() {
+                        *slot_err = Some(e);
+                    }
                 }
-                // A NaN derivative makes the stepper reject and shrink, then stop.
                 dy.fill(f64::NAN);
                 return;
             }
@@ -1249,6 +1275,8 @@ impl System<f64, DVector<f64>> for &mut MotionRhs<'_> {
         // into an impossible geometry: forget it. A failure the stepper cannot step around
         // ends the integration (step size too small) and is then reported.
         self.last.borrow_mut().take();
+        let (_, total) = self.failures.get();
+        self.failures.set((0, total));
         let events = match self.last_y.as_ref() {
             Some(prev) => self.detect(prev, y),
             None => Vec::new(),

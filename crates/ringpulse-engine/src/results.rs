@@ -280,7 +280,8 @@ pub struct SolverStats {
     /// Largest accepted step, in seconds.
     #[serde(rename = "max_dt_s")]
     pub max_dt: f64,
-    /// Number of integration segments (1, or 2 after a crowbar event).
+    /// Number of integration segments (1, or 2 after a crowbar event; with motion one more
+    /// after every event: yield, unload, impact).
     pub segments: u32,
     /// Wall time of matrix assembly and factorisation, in seconds.
     #[serde(rename = "assembly_time_s")]

@@ -50,3 +50,31 @@ fn names_the_split_of_an_indefinite_matrix() {
         }
     }
 }
+
+/// A wall split into 2:1 cells stacked across their long side stays positive definite but
+/// nearly singular: its fastest eddy mode decays at about 1e10 1/s, which would hold the
+/// explicit stepper to sub-nanosecond steps for the whole run (it crawled for minutes before
+/// this check). The engine refuses it up front and names the split; the same tube in
+/// near-square cells passes.
+#[test]
+fn refuses_a_split_that_would_make_the_stepper_crawl() {
+    let elongated = simple_case(
+        200e-6,
+        5e3,
+        100e-9,
+        5e-3,
+        coil(6, 22e-3, 3e-3, 4e-3, 5.5e-3, None),
+        Some(tube(25e-3, 1.5e-3, 60e-3, "aluminium_6061_t6", Some(Split { radial: 4, axial: 76 }))),
+    );
+    match prepare(&elongated) {
+        Err(EngineError::TooStiff { rate, steps, split, .. }) => {
+            assert!(rate > 1e9, "rate {rate:e}");
+            assert!(steps > ringpulse_engine::run::MAX_STABLE_STEPS);
+            assert!(split.contains("workpiece 4 x 76"), "{split}");
+        }
+        other => panic!("expected TooStiff, got {:?}", other.map(|p| p.network.n_loops())),
+    }
+    let mut square = elongated.clone();
+    square.workpiece.as_mut().unwrap().split = Some(Split { radial: 2, axial: 76 });
+    assert!(prepare(&square).is_ok());
+}

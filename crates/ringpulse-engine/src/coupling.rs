@@ -453,11 +453,29 @@ impl CouplingTables {
         out
     }
 
+    /// Calls `f(k, window, layer, x)` for every workpiece filament k (ring by ring, layers
+    /// inner first, as the mesh orders them) whose ring's radius in `radii` (metres) a window
+    /// covers, with x the radius mapped to [-1, 1] in that window. A ring without a window
+    /// (only for a non-finite radius, which the caller reports) is skipped.
+    fn each_filament(&self, radii: &[f64], mut f: impl FnMut(usize, &Window, usize, f64)) {
+        let mut k = 0;
+        for (q, &r) in radii.iter().enumerate() {
+            let layers = self.rings[q].layers;
+            if let Some(wi) = self.find(q, r) {
+                let win = &self.windows[q][wi];
+                let x = (2.0 * r - win.lo - win.hi) / (win.hi - win.lo);
+                for j in 0..layers {
+                    f(k + j, win, j, x);
+                }
+            }
+            k += layers;
+        }
+    }
+
     /// Fills column k of `c` with G_k = Uᵀ C_k and of `dc` with ∂G_k/∂r_q for every workpiece
-    /// filament (ring by ring, layers inner first, as the mesh orders them), and with `axial`
-    /// also ∂G_k/∂z and ∂²G_k/∂z∂r_q, for rings at mean radii `radii` (metres). Missing
-    /// windows are built first, which may grow the basis: the matrices must have
-    /// [`CouplingTables::rank`] rows after [`CouplingTables::ensure`].
+    /// filament, and with `axial` also ∂G_k/∂z and ∂²G_k/∂z∂r_q, for rings at mean radii
+    /// `radii` (metres). The matrices must have [`CouplingTables::rank`] rows after
+    /// [`CouplingTables::ensure`], which builds missing windows and may grow the basis.
     pub fn fill(
         &self,
         radii: &[f64],
@@ -465,49 +483,26 @@ impl CouplingTables {
         dc: &mut DMatrix<f64>,
         mut axial: Option<(&mut DMatrix<f64>, &mut DMatrix<f64>)>,
     ) {
-        let mut k = 0;
-        for (q, &r) in radii.iter().enumerate() {
-            let layers = self.rings[q].layers;
-            let Some(wi) = self.find(q, r) else {
-                // Only for a non-finite radius (the caller reports the failure).
-                k += layers;
-                continue;
-            };
-            let win = &self.windows[q][wi];
+        self.each_filament(radii, |k, win, j, x| {
             let scale = 2.0 / (win.hi - win.lo);
-            let xr = (2.0 * r - win.lo - win.hi) / (win.hi - win.lo);
-            let (t, d) = chebyshev(xr);
-            for j in 0..layers {
-                series(&win.c[j], &t, &d, scale, column_mut(c, k), column_mut(dc, k));
-                if let Some((cz, dcz)) = axial.as_mut() {
-                    series(&win.cz[j], &t, &d, scale, column_mut(cz, k), column_mut(dcz, k));
-                }
-                k += 1;
+            let (t, d) = chebyshev(x);
+            series(&win.c[j], &t, &d, scale, column_mut(c, k), column_mut(dc, k));
+            if let Some((cz, dcz)) = axial.as_mut() {
+                series(&win.cz[j], &t, &d, scale, column_mut(cz, k), column_mut(dcz, k));
             }
-        }
+        });
     }
 
     /// Fills column k of `fa` (n_coil × n_workpiece) with ∂M_jk/∂a_j for rings at `radii`.
     pub fn fill_coil_factors(&self, radii: &[f64], fa: &mut DMatrix<f64>) {
-        let mut k = 0;
-        for (q, &r) in radii.iter().enumerate() {
-            let layers = self.rings[q].layers;
-            let Some(wi) = self.find(q, r) else {
-                k += layers;
-                continue;
-            };
-            let win = &self.windows[q][wi];
-            let xr = (2.0 * r - win.lo - win.hi) / (win.hi - win.lo);
-            let (t, _) = chebyshev(xr);
-            for j in 0..layers {
-                let mut v = fa.column_mut(k);
-                v.fill(0.0);
-                for (a, ta) in t.iter().enumerate() {
-                    v.axpy(*ta, &win.fa[j].column(a), 1.0);
-                }
-                k += 1;
+        self.each_filament(radii, |k, win, j, x| {
+            let (t, _) = chebyshev(x);
+            let mut v = fa.column_mut(k);
+            v.fill(0.0);
+            for (a, ta) in t.iter().enumerate() {
+                v.axpy(*ta, &win.fa[j].column(a), 1.0);
             }
-        }
+        });
     }
 
     /// The exact column C_k and ∂M_jk/∂a_j of one filament at radius `rk` and axial position

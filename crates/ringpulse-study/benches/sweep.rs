@@ -6,9 +6,9 @@
 //! - the coarse preview at fixed geometry;
 //! - the coarse preview with the workpiece moving (the demo as written).
 //!
-//! `RINGPULSE_BENCH_FULL=1` adds the default resolution with motion, which takes hours on two
-//! cores today (docs/performance.md). Targets of the studies issue: the default-resolution sweep
-//! under 30 s and the coarse one under 3 s on the 2-core machine.
+//! `RINGPULSE_BENCH_FULL=1` adds the default resolution with motion, which takes several
+//! minutes on two cores (docs/performance.md). Targets of the studies issue: the
+//! default-resolution sweep under 30 s and the coarse one under 3 s on the 2-core machine.
 
 use std::time::Instant;
 

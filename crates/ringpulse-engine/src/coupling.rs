@@ -504,20 +504,6 @@ impl CouplingTables {
             }
         });
     }
-
-    /// The exact column C_k and ∂M_jk/∂a_j of one filament at radius `rk` and axial position
-    /// `zk` (metres), from the kernel (for checks).
-    pub fn exact_column(&self, rk: f64, zk: f64) -> (DVector<f64>, DVector<f64>) {
-        let nc = self.coil.len();
-        let mut m = DVector::<f64>::zeros(nc);
-        let mut ma = DVector::<f64>::zeros(nc);
-        for (i, c) in self.coil.iter().enumerate() {
-            let g = filament::mutual_inductance_with_gradient(c.r, rk, zk - c.z);
-            m[i] = g.m;
-            ma[i] = g.dm_da;
-        }
-        (&self.g0 * m, ma)
-    }
 }
 
 #[cfg(test)]

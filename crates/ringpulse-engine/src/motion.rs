@@ -12,10 +12,14 @@
 //!
 //! where F_q is the exact derivative of the inductance matrix actually used, including the
 //! layer positions and the thickness change, so the energy account closes. Flux linkages stay
-//! the circuit state; the moving blocks of the inductance matrix are rebuilt from the current
-//! geometry, or updated to first order from the last rebuild while every ring stays within
-//! [`MovingNetwork::linearization_shift`] of it (docs/theory.md, "Motion", bounds the error).
-//! Only workpiece rows change: the coil block of the loop matrix is constant and is inverted once, the workpiece is eliminated through its Schur complement.
+//! the circuit state. Only workpiece rows change: the coil block of the loop matrix is
+//! constant and factorised once, the coil–workpiece coupling comes from tables in ring radius
+//! (module `coupling`), and the workpiece block is rebuilt from the kernel at every
+//! evaluation and eliminated through its Schur complement.
+//!
+//! The hoop stress of each ring is on an elastic branch or on the yield surface
+//! ([`Branch`]); yielding, unloading, die contact and the crowbar are events that end a
+//! segment of the integration, so that the right-hand side is smooth inside every step.
 //!
 //! Every filament carries its temperature: Joule heating with a linear resistivity law, plus
 //! Taylor–Quinney plastic heating in the workpiece; resistances follow temperature and
@@ -114,9 +118,6 @@ pub struct MovingNetwork {
     /// compression), as (limit, coil is inside).
     coil_limit: Option<(f64, bool)>,
     total_mass: f64,
-    /// Smallest centre distance from a workpiece filament to a coil filament or to a filament
-    /// of another ring, at the initial geometry, in metres.
-    closest_pair: f64,
 }
 
 /// Buffers reused by every evaluation (allocated once per run, and again only when the
@@ -308,6 +309,8 @@ impl MovingNetwork {
         }
         let grad_r_cc = base.grad_r.view((0, 0), (w0, w0)).into_owned();
         let total_mass = rings.iter().map(|r| r.mass).sum();
+        // Smallest centre distance from a workpiece filament to a coil filament or to a
+        // filament of another ring, at the initial geometry, in metres.
         let mut closest_pair = f64::INFINITY;
         for (k, f) in mesh.filaments.iter().enumerate().skip(w0) {
             for (j, g) in mesh.filaments.iter().enumerate() {
@@ -365,7 +368,6 @@ impl MovingNetwork {
             stop,
             coil_limit,
             total_mass,
-            closest_pair,
             base,
         })
     }
@@ -386,12 +388,6 @@ impl MovingNetwork {
     /// radius).
     pub fn table_windows(&self) -> usize {
         self.tables.borrow().windows_built()
-    }
-
-    /// Smallest distance from a workpiece filament to a coil filament or to a filament of
-    /// another ring at the initial geometry, in metres.
-    pub fn closest_pair(&self) -> f64 {
-        self.closest_pair
     }
 
     /// Number of workpiece rings.

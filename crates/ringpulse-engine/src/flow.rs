@@ -252,8 +252,10 @@ pub struct PlasticRates {
 /// ```
 ///
 /// which stays finite and smooth at the Johnson–Cook onset where H is infinite. The rates
-/// are not clamped: u < 0 means the ring unloads, which the caller treats as the event
-/// that returns it to the elastic branch (springback). ∂σ_f/∂w and ∂σ_f/∂|ε̇| are exact;
+/// are not clamped: u < 0 means the state is unloading. The motion engine ends the yielding
+/// branch when the ring's velocity turns (until then u ≥ 0, since the strain rate and the
+/// rate and thermal softening all add to it), which gives springback. ∂σ_f/∂w and ∂σ_f/∂|ε̇|
+/// are exact;
 /// ∂σ_f/∂T is a forward difference over 0.1 K.
 ///
 /// - `w`: hardening variable; `rate`: ε̇ (1/s); `rate_dot`: dε̇/dt (1/s²); `t`: temperature
@@ -360,8 +362,8 @@ mod tests {
         // Perfect plasticity: all of the strain rate is plastic while loading ...
         assert_eq!(plastic_rates(&tension, 0.0, 1.0, 0.0, 300.0, 0.0, e, &law).strain, 1.0);
         assert_eq!(plastic_rates(&compression, 0.0, -1.0, 0.0, 300.0, 0.0, e, &law).strain, -1.0);
-        // ... and the consistency rate turns negative when the ring unloads (the caller's
-        // event back to the elastic branch, which gives springback).
+        // ... and the consistency rate turns negative when the strain rate reverses (the ring
+        // unloads; the motion engine switches it to the elastic branch then).
         assert!(plastic_rates(&tension, 0.0, -1.0, 0.0, 300.0, 0.0, e, &law).u < 0.0);
         // With hardening the plastic rate is E/(E + H) of the total rate, H = dσ_f/dε̄ (here
         // from a central difference of the law itself), and dw/dt = (dw/dε̄) ε̇_p.

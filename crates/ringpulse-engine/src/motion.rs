@@ -126,25 +126,31 @@ struct Workspace {
     /// True when `c` and its relatives hold G = Uᵀ C in the tables' basis (m rows); false
     /// when they hold C itself (n_cl rows, the exact path).
     projected: bool,
-    /// G = Uᵀ C, or C = L_A⁻¹ P_cᵀ L_cw, rows × n_w.
+    /// G = Uᵀ C, or C = L_A⁻¹ P_cᵀ L_cw, rows × n_w, in H^½.
     c: DMatrix<f64>,
     /// Its transpose, n_w × rows (for the product GᵀG, fastest as a plain matrix product).
     ct: DMatrix<f64>,
-    /// ∂G/∂r_q column by column (each column against its own ring's radius), rows × n_w.
+    /// ∂G/∂r_q column by column (each column against its own ring's radius), rows × n_w, in
+    /// H^½/m.
     dc: DMatrix<f64>,
-    /// ∂G/∂z, rows × n_w.
+    /// ∂G/∂z, rows × n_w, in H^½/m.
     cz: DMatrix<f64>,
-    /// ∂²G/∂z∂r_q, rows × n_w (first-order axial shift of the tables).
+    /// ∂²G/∂z∂r_q, rows × n_w, in H^½/m² (first-order axial shift of the tables).
     dcz: DMatrix<f64>,
-    /// Workpiece block of the inductance matrix, n_w × n_w.
+    /// Coil–workpiece mutual inductances and their r_q and z derivatives from the kernel,
+    /// n_c × n_w each, in H and H/m (the exact path).
+    m: DMatrix<f64>,
+    mr: DMatrix<f64>,
+    mz: DMatrix<f64>,
+    /// Workpiece block of the inductance matrix, n_w × n_w, in H.
     d: DMatrix<f64>,
-    /// Workpiece force factors (∂M_kl/∂r_k, ½ ∂L_kk/∂r_k on the diagonal), n_w × n_w.
+    /// Workpiece force factors (∂M_kl/∂r_k, ½ ∂L_kk/∂r_k on the diagonal), n_w × n_w, in H/m.
     gd: DMatrix<f64>,
-    /// Schur complement D − CᵀC, n_w × n_w (its Cholesky factor after the solve).
+    /// Schur complement D − CᵀC, n_w × n_w, in H (its Cholesky factor after the solve).
     s: DMatrix<f64>,
     /// ∂L_kk/∂(dr) of each workpiece cell at fixed radius, in H/m.
     self_dr: Vec<f64>,
-    /// ∂M_jk/∂a_j, coil filament j against workpiece filament k, n_c × n_w.
+    /// ∂M_jk/∂a_j, coil filament j against workpiece filament k, n_c × n_w, in H/m.
     fa: DMatrix<f64>,
 }
 
@@ -343,6 +349,9 @@ impl MovingNetwork {
             dc: DMatrix::zeros(n_coil_loops, nw),
             cz: DMatrix::zeros(n_coil_loops, nw),
             dcz: DMatrix::zeros(n_coil_loops, nw),
+            m: DMatrix::zeros(w0, nw),
+            mr: DMatrix::zeros(w0, nw),
+            mz: DMatrix::zeros(w0, nw),
             d: DMatrix::zeros(nw, nw),
             gd: DMatrix::zeros(nw, nw),
             s: DMatrix::zeros(nw, nw),
@@ -500,17 +509,14 @@ impl MovingNetwork {
         let mesh: &Mesh = &self.base.mesh;
         let w0 = mesh.workpiece_start();
         let nw = mesh.filaments.len() - w0;
-        let mut m = DMatrix::<f64>::zeros(w0, nw);
-        let mut mr = DMatrix::<f64>::zeros(w0, nw);
-        let mut mz = DMatrix::<f64>::zeros(w0, nw);
         for k in 0..nw {
             for j in 0..w0 {
                 let c = &mesh.filaments[j];
                 let g = filament::mutual_inductance_with_gradient(c.r, geo.wr[k], geo.wz[k] - c.z);
-                m[(j, k)] = g.m;
+                ws.m[(j, k)] = g.m;
                 // d/dr_q = ∂/∂r_k · ∂r_k/∂r_q.
-                mr[(j, k)] = g.dm_db * geo.drf[k];
-                mz[(j, k)] = g.dm_dz;
+                ws.mr[(j, k)] = g.dm_db * geo.drf[k];
+                ws.mz[(j, k)] = g.dm_dz;
                 if coil_factors {
                     ws.fa[(j, k)] = g.dm_da;
                 }
@@ -518,15 +524,14 @@ impl MovingNetwork {
         }
         ws.set_rows(self.n_coil_loops);
         ws.projected = false;
-        ws.c.gemm(1.0, &self.g0, &m, 0.0);
-        ws.dc.gemm(1.0, &self.g0, &mr, 0.0);
-        ws.cz.gemm(1.0, &self.g0, &mz, 0.0);
+        ws.c.gemm(1.0, &self.g0, &ws.m, 0.0);
+        ws.dc.gemm(1.0, &self.g0, &ws.mr, 0.0);
+        ws.cz.gemm(1.0, &self.g0, &ws.mz, 0.0);
         ws.dcz.fill(0.0);
     }
 
     /// The coupling into the workspace: from the tables (to first order in the axial shift
     /// from their anchor) while the shift stays within `z_shift_max` of it, else exactly.
-    /// Returns the axial offset used from the tables' anchor (0 when exact).
     fn coupling(&self, geo: &WorkGeometry, ws: &mut Workspace, coil_factors: bool) {
         let mut tables = self.tables.borrow_mut();
         let dz = geo.z_shift - tables.z_anchor();
@@ -846,7 +851,7 @@ pub enum Event {
     Stop(usize),
     /// Elastic ring q reached the yield surface.
     Yield(usize),
-    /// Yielding ring q unloads (its consistency plastic rate turned negative).
+    /// Yielding ring q unloads (its radial velocity turned against the direction of flow).
     Unload(usize),
     /// Ring q reached the coil.
     CoilContact(usize),

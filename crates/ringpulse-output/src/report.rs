@@ -104,7 +104,11 @@ pub fn format_report(meta: &RunMeta, r: &RunResult) -> String {
     row(
         &mut out,
         "hottest coil filament",
-        &format!("{:.0} K (adiabatic estimate)", s.peak_coil_temperature),
+        &format!(
+            "{:.0} K ({})",
+            s.peak_coil_temperature,
+            if s.motion.is_some() { "coupled heating" } else { "adiabatic estimate" }
+        ),
     );
     if r.mesh.workpiece_filaments > 0 {
         out.push_str("workpiece\n");
@@ -130,10 +134,7 @@ pub fn format_report(meta: &RunMeta, r: &RunResult) -> String {
         }
     }
     if let Some(m) = &s.motion {
-        out.push_str(
-            "motion
-",
-        );
+        out.push_str("motion\n");
         row(
             &mut out,
             "largest displacement",

@@ -87,6 +87,10 @@ struct Window {
     cz: Vec<DMatrix<f64>>,
     /// Per layer: n_coil × TERMS coefficients of ∂M_jk/∂a_j.
     fa: Vec<DMatrix<f64>>,
+    /// For a ring with a mirror partner, per layer: the coefficients of (G_k + G_k')/√2, the
+    /// layer and the partner's same layer at the same mean radius (the symmetric combination
+    /// the motion engine solves for); empty otherwise.
+    cs: Vec<DMatrix<f64>>,
 }
 
 /// The tables of all rings.
@@ -97,6 +101,8 @@ pub struct CouplingTables {
     /// Coil filaments (positions and sizes).
     coil: Vec<Filament>,
     rings: Vec<RingShape>,
+    /// Mirror partner of each ring (itself on the plane or without symmetry).
+    partner: Vec<usize>,
     /// Initial window width of each ring, in metres.
     width: Vec<f64>,
     /// Grid origin of each ring's windows, in metres.
@@ -196,12 +202,15 @@ fn column_mut(m: &mut DMatrix<f64>, k: usize) -> &mut [f64] {
 impl CouplingTables {
     /// Tables for the rings of a workpiece against the coil filaments `coil`, with
     /// `g0` = L_A⁻¹ P_cᵀ, built at axial shift `z_anchor`; a window is accepted when its
-    /// coefficient tail is below `tolerance`. Builds the window around every ring's initial
-    /// radius.
+    /// coefficient tail is below `tolerance`. `partner` gives each ring's mirror partner (its
+    /// own index on the plane or without symmetry); a ring with a partner also gets the
+    /// combined series of [`CouplingTables::fill_reduced`]. Builds the window around every
+    /// ring's initial radius.
     pub fn new(
         g0: DMatrix<f64>,
         coil: Vec<Filament>,
         rings: Vec<RingShape>,
+        partner: Vec<usize>,
         z_anchor: f64,
         tolerance: f64,
     ) -> CouplingTables {
@@ -224,10 +233,19 @@ impl CouplingTables {
             base.push(ring.r0 - 0.25 * w);
         }
         let n = rings.len();
+        let partner = if partner.len() == rings.len()
+            && partner.iter().enumerate().all(|(q, &p)| {
+                p < rings.len() && rings[p].layers == rings[q].layers && partner[p] == q
+            }) {
+            partner
+        } else {
+            (0..rings.len()).collect()
+        };
         let mut tables = CouplingTables {
             g0,
             coil,
             rings,
+            partner,
             width,
             base,
             windows: vec![Vec::new(); n],
@@ -348,6 +366,7 @@ impl CouplingTables {
                     .iter()
                     .chain(win.cz.iter())
                     .chain(win.fa.iter())
+                    .chain(win.cs.iter())
                     .all(|m| tail(m) <= self.tolerance);
                 let narrow = hi - lo <= self.width[q] * MIN_WIDTH_FRACTION;
                 if converged || narrow {
@@ -369,14 +388,21 @@ impl CouplingTables {
     fn project(&mut self, windows: Vec<Window>) -> Vec<Window> {
         let n = self.basis.nrows();
         let count: usize = windows.iter().map(|w| w.c.len() * TERMS).sum();
+        let count_s: usize = windows.iter().map(|w| w.cs.len() * TERMS).sum();
         let mut data_c = DMatrix::<f64>::zeros(n, count);
         let mut data_z = DMatrix::<f64>::zeros(n, count);
+        let mut data_s = DMatrix::<f64>::zeros(n, count_s);
         let mut col = 0;
+        let mut col_s = 0;
         for w in &windows {
             for (c, cz) in w.c.iter().zip(&w.cz) {
                 data_c.columns_mut(col, TERMS).copy_from(c);
                 data_z.columns_mut(col, TERMS).copy_from(cz);
                 col += TERMS;
+            }
+            for cs in &w.cs {
+                data_s.columns_mut(col_s, TERMS).copy_from(cs);
+                col_s += TERMS;
             }
         }
         if self.norm_ref == 0.0 {
@@ -385,9 +411,10 @@ impl CouplingTables {
             let nz = max_norm(&data_z);
             self.z_weight = if nz > 0.0 { self.norm_ref / nz } else { 0.0 };
         }
-        let mut data = DMatrix::<f64>::zeros(n, 2 * count);
+        let mut data = DMatrix::<f64>::zeros(n, 2 * count + count_s);
         data.columns_mut(0, count).copy_from(&data_c);
         data.columns_mut(count, count).copy_from(&(data_z * self.z_weight));
+        data.columns_mut(2 * count, count_s).copy_from(&data_s);
         self.absorb(&data);
         windows
             .into_iter()
@@ -397,6 +424,7 @@ impl CouplingTables {
                 c: w.c.iter().map(|c| self.basis.tr_mul(c)).collect(),
                 cz: w.cz.iter().map(|c| self.basis.tr_mul(c)).collect(),
                 fa: w.fa,
+                cs: w.cs.iter().map(|c| self.basis.tr_mul(c)).collect(),
             })
             .collect()
     }
@@ -406,26 +434,34 @@ impl CouplingTables {
     fn build(&self, wanted: &[(usize, f64, f64)]) -> Vec<Window> {
         let nc = self.coil.len();
         let x = nodes();
-        // Columns: for each window, each layer, each node.
-        let cols: usize = wanted.iter().map(|&(q, _, _)| self.rings[q].layers * TERMS).sum();
+        // Columns: for each window, each layer, each node; then for a ring with a mirror
+        // partner the partner's layers at the same radii.
+        let paired = |q: usize| self.partner[q] != q;
+        let cols: usize = wanted
+            .iter()
+            .map(|&(q, _, _)| self.rings[q].layers * TERMS * if paired(q) { 2 } else { 1 })
+            .sum();
         let mut m = DMatrix::<f64>::zeros(nc, cols);
         let mut mz = DMatrix::<f64>::zeros(nc, cols);
         let mut ma = DMatrix::<f64>::zeros(nc, cols);
         let mut col = 0;
         for &(q, lo, hi) in wanted {
-            let ring = &self.rings[q];
-            for j in 0..ring.layers {
-                for xi in x.iter() {
-                    let r = 0.5 * (lo + hi) + 0.5 * (hi - lo) * xi;
-                    let rk = ring.layer_radius(j, r);
-                    let zk = ring.z0 + self.z_anchor;
-                    for (i, c) in self.coil.iter().enumerate() {
-                        let g = filament::mutual_inductance_with_gradient(c.r, rk, zk - c.z);
-                        m[(i, col)] = g.m;
-                        mz[(i, col)] = g.dm_dz;
-                        ma[(i, col)] = g.dm_da;
+            let own = std::iter::once(q);
+            let mirror = if paired(q) { Some(self.partner[q]) } else { None };
+            for ring in own.chain(mirror).map(|p| &self.rings[p]) {
+                for j in 0..ring.layers {
+                    for xi in x.iter() {
+                        let r = 0.5 * (lo + hi) + 0.5 * (hi - lo) * xi;
+                        let rk = ring.layer_radius(j, r);
+                        let zk = ring.z0 + self.z_anchor;
+                        for (i, c) in self.coil.iter().enumerate() {
+                            let g = filament::mutual_inductance_with_gradient(c.r, rk, zk - c.z);
+                            m[(i, col)] = g.m;
+                            mz[(i, col)] = g.dm_dz;
+                            ma[(i, col)] = g.dm_da;
+                        }
+                        col += 1;
                     }
-                    col += 1;
                 }
             }
         }
@@ -441,12 +477,23 @@ impl CouplingTables {
                 c: Vec::with_capacity(layers),
                 cz: Vec::with_capacity(layers),
                 fa: Vec::with_capacity(layers),
+                cs: Vec::new(),
             };
             for _ in 0..layers {
                 win.c.push(coefficients(&cm.columns(col, TERMS).into_owned()));
                 win.cz.push(coefficients(&cmz.columns(col, TERMS).into_owned()));
                 win.fa.push(coefficients(&ma.columns(col, TERMS).into_owned()));
                 col += TERMS;
+            }
+            if paired(q) {
+                let first = col - layers * TERMS;
+                for j in 0..layers {
+                    let own = cm.columns(first + j * TERMS, TERMS);
+                    let other = cm.columns(col, TERMS);
+                    let sum = (own + other) * std::f64::consts::FRAC_1_SQRT_2;
+                    win.cs.push(coefficients(&sum));
+                    col += TERMS;
+                }
             }
             out.push(win);
         }
@@ -491,6 +538,32 @@ impl CouplingTables {
                 series(&win.cz[j], &t, &d, scale, column_mut(cz, k), column_mut(dcz, k));
             }
         });
+    }
+
+    /// Fills, for a mirror-symmetric workpiece at mean radii `radii` (metres; a ring and its
+    /// partner at the same radius), one column per representative filament (the layers of
+    /// each ring whose partner's index is not below its own, in ring order) of `c` with
+    /// (G_k + G_k')/√2 and of `dc` with its derivative against the ring's radius (G_k and
+    /// ∂G_k/∂r_q for a ring on the plane). The matrices need [`CouplingTables::rank`] rows.
+    pub fn fill_reduced(&self, radii: &[f64], c: &mut DMatrix<f64>, dc: &mut DMatrix<f64>) {
+        let mut a = 0;
+        for (q, &r) in radii.iter().enumerate() {
+            if self.partner[q] < q {
+                continue;
+            }
+            let layers = self.rings[q].layers;
+            if let Some(wi) = self.find(q, r) {
+                let win = &self.windows[q][wi];
+                let x = (2.0 * r - win.lo - win.hi) / (win.hi - win.lo);
+                let scale = 2.0 / (win.hi - win.lo);
+                let (t, d) = chebyshev(x);
+                let coefs = if win.cs.is_empty() { &win.c } else { &win.cs };
+                for (j, coef) in coefs.iter().enumerate().take(layers) {
+                    series(coef, &t, &d, scale, column_mut(c, a + j), column_mut(dc, a + j));
+                }
+            }
+            a += layers;
+        }
     }
 
     /// Fills column k of `fa` (n_coil × n_workpiece) with ∂M_jk/∂a_j for rings at `radii`.

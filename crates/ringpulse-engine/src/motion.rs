@@ -17,6 +17,18 @@
 //! (module `coupling`), and the workpiece block is rebuilt from the kernel at every
 //! evaluation and eliminated through its Schur complement.
 //!
+//! # Mirror symmetry
+//!
+//! When coil and workpiece are mirror images about the coil's middle plane (the demos are),
+//! the currents, forces and ring states are mirror images too, and the workpiece block is
+//! solved in the symmetric subspace: each pair of mirror filaments k, k' is one unknown with
+//! the orthonormal combination (e_k + e_k')/√2 (a filament on the plane is its own). The
+//! reduced block Qᵀ D Q needs M_kl and M_kl' for the representatives only (a quarter of the
+//! pairs of the full block, whose other entries follow by reflection), its Schur complement
+//! is half the size (an eighth of the factorisation), and the tables hold the combined
+//! coupling columns. The state vector stays the full one; mirror rings get the same force,
+//! so their states stay equal.
+//!
 //! The hoop stress of each ring is on an elastic branch or on the yield surface
 //! ([`Branch`]); yielding, unloading, die contact and the crowbar are events that end a
 //! segment of the integration, so that the right-hand side is smooth inside every step.
@@ -106,6 +118,11 @@ pub struct MovingNetwork {
     z_shift_max: f64,
     ws: RefCell<Workspace>,
     rings: Vec<Ring>,
+    /// The workpiece filaments the workpiece block is built for: all of them, or in a
+    /// mirror-symmetric set-up one of each mirror pair (module docs, "Mirror symmetry").
+    reps: Vec<Rep>,
+    /// Mirror partner of each ring (itself on the plane, or without symmetry).
+    ring_partner: Vec<usize>,
     /// Coil-coil force factors ∂M/∂r for coil rows (constant), n_c × n_c.
     grad_r_cc: DMatrix<f64>,
     mech: WorkpieceMechanics,
@@ -120,6 +137,25 @@ pub struct MovingNetwork {
     total_mass: f64,
 }
 
+/// A representative workpiece filament of the reduced workpiece block: filament `k`, and its
+/// mirror partner when the set-up is mirror-symmetric and `k` lies off the plane.
+#[derive(Debug, Clone, Copy)]
+struct Rep {
+    k: usize,
+    partner: Option<usize>,
+}
+
+impl Rep {
+    /// Norm of the representative's symmetric combination e_k + e_k' (√2 for a pair, 1 alone).
+    fn norm(&self) -> f64 {
+        if self.partner.is_some() {
+            std::f64::consts::SQRT_2
+        } else {
+            1.0
+        }
+    }
+}
+
 /// Buffers reused by every evaluation (allocated once per run, and again only when the
 /// tables' basis grows).
 struct Workspace {
@@ -128,7 +164,17 @@ struct Workspace {
     projected: bool,
     /// G = Uᵀ C, or C = L_A⁻¹ P_cᵀ L_cw, rows × n_w, in H^½.
     c: DMatrix<f64>,
-    /// Its transpose, n_w × rows (for the product GᵀG, fastest as a plain matrix product).
+    /// G Q: the columns of G combined over mirror pairs ((G_k + G_k')/√2), rows × n_h
+    /// (n_h = n_w without symmetry, then a copy of G).
+    cr: DMatrix<f64>,
+    /// Its derivative, column a against the radius of representative a's ring, rows × n_h,
+    /// in H^½/m (filled only with `reduced`).
+    dcr: DMatrix<f64>,
+    /// True when the tables filled `cr` and `dcr` directly (mirror symmetry, no axial
+    /// output): `c`, `dc`, `cz` and `dcz` are then stale.
+    reduced: bool,
+    /// Its transpose, n_h × rows (for the product (GQ)ᵀ(GQ), fastest as a plain matrix
+    /// product).
     ct: DMatrix<f64>,
     /// ∂G/∂r_q column by column (each column against its own ring's radius), rows × n_w, in
     /// H^½/m.
@@ -142,11 +188,14 @@ struct Workspace {
     m: DMatrix<f64>,
     mr: DMatrix<f64>,
     mz: DMatrix<f64>,
-    /// Workpiece block of the inductance matrix, n_w × n_w, in H.
+    /// Reduced workpiece block Qᵀ D Q of the inductance matrix, n_h × n_h, in H.
     d: DMatrix<f64>,
-    /// Workpiece force factors (∂M_kl/∂r_k, ½ ∂L_kk/∂r_k on the diagonal), n_w × n_w, in H/m.
+    /// Workpiece force factors for the representatives: row a, column b holds Σ ∂M_kl/∂r_k
+    /// over the filaments l of representative b (½ ∂L_kk/∂r_k on the diagonal, plus the
+    /// partner's term), n_h × n_h, in H/m.
     gd: DMatrix<f64>,
-    /// Schur complement D − CᵀC, n_w × n_w, in H (its Cholesky factor after the solve).
+    /// Reduced Schur complement Qᵀ (D − CᵀC) Q, n_h × n_h, in H (its Cholesky factor after
+    /// the solve).
     s: DMatrix<f64>,
     /// ∂L_kk/∂(dr) of each workpiece cell at fixed radius, in H/m.
     self_dr: Vec<f64>,
@@ -329,6 +378,10 @@ impl MovingNetwork {
                 }
             }
         }
+        let axial_free = !mirror_symmetric(mesh);
+        let ring_partner = if axial_free { None } else { ring_mirror(mesh, &rings) }
+            .filter(|p| p.iter().enumerate().all(|(q, &r)| p[r] == q))
+            .unwrap_or_else(|| (0..rings.len()).collect());
         let shapes: Vec<RingShape> = rings
             .iter()
             .map(|r| RingShape { r0: r.r0, h0: r.h0, z0: r.z0, layers: r.filaments.len() })
@@ -337,24 +390,29 @@ impl MovingNetwork {
             g0.clone(),
             mesh.filaments[..w0].to_vec(),
             shapes,
+            ring_partner.clone(),
             0.0,
             table_tolerance,
         );
-        let axial_free = !mirror_symmetric(mesh);
+        let reps = representatives(&rings, &ring_partner);
+        let nh = reps.len();
         let z_shift_max = 0.2 * (100.0 * table_tolerance).sqrt() * closest_pair;
         let ws = Workspace {
             projected: false,
             c: DMatrix::zeros(n_coil_loops, nw),
-            ct: DMatrix::zeros(nw, n_coil_loops),
+            cr: DMatrix::zeros(n_coil_loops, nh),
+            dcr: DMatrix::zeros(n_coil_loops, nh),
+            reduced: false,
+            ct: DMatrix::zeros(nh, n_coil_loops),
             dc: DMatrix::zeros(n_coil_loops, nw),
             cz: DMatrix::zeros(n_coil_loops, nw),
             dcz: DMatrix::zeros(n_coil_loops, nw),
             m: DMatrix::zeros(w0, nw),
             mr: DMatrix::zeros(w0, nw),
             mz: DMatrix::zeros(w0, nw),
-            d: DMatrix::zeros(nw, nw),
-            gd: DMatrix::zeros(nw, nw),
-            s: DMatrix::zeros(nw, nw),
+            d: DMatrix::zeros(nh, nh),
+            gd: DMatrix::zeros(nh, nh),
+            s: DMatrix::zeros(nh, nh),
             self_dr: vec![0.0; nw],
             fa: DMatrix::zeros(w0, nw),
         };
@@ -368,6 +426,8 @@ impl MovingNetwork {
             z_shift_max: if z_shift_max.is_finite() { z_shift_max } else { 0.0 },
             ws: RefCell::new(ws),
             rings,
+            reps,
+            ring_partner,
             grad_r_cc,
             mech,
             coil_heat_capacity: coil_material.density * coil_material.specific_heat,
@@ -385,6 +445,29 @@ impl MovingNetwork {
     /// instead of the tables (slower; for checks).
     pub fn set_exact_coupling(&mut self, exact: bool) {
         self.exact_coupling = exact;
+    }
+
+    /// Uses the mirror symmetry of the set-up to halve the workpiece block (the default when
+    /// the set-up is mirror-symmetric), or not (for checks).
+    pub fn set_mirror_reduction(&mut self, on: bool) {
+        let partner: Vec<usize> = if on && !self.axial_free {
+            ring_mirror(&self.base.mesh, &self.rings)
+                .filter(|p| p.iter().enumerate().all(|(q, &r)| p[r] == q))
+                .unwrap_or_else(|| (0..self.rings.len()).collect())
+        } else {
+            (0..self.rings.len()).collect()
+        };
+        self.reps = representatives(&self.rings, &partner);
+        self.ring_partner = partner;
+        let nh = self.reps.len();
+        let ws = self.ws.get_mut();
+        let rows = ws.c.nrows();
+        ws.cr = DMatrix::zeros(rows, nh);
+        ws.dcr = DMatrix::zeros(rows, nh);
+        ws.ct = DMatrix::zeros(nh, rows);
+        ws.d = DMatrix::zeros(nh, nh);
+        ws.gd = DMatrix::zeros(nh, nh);
+        ws.s = DMatrix::zeros(nh, nh);
     }
 
     /// Whether the rigid axial motion is integrated (false for a mirror-symmetric set-up,
@@ -524,6 +607,7 @@ impl MovingNetwork {
         }
         ws.set_rows(self.n_coil_loops);
         ws.projected = false;
+        ws.reduced = false;
         ws.c.gemm(1.0, &self.g0, &ws.m, 0.0);
         ws.dc.gemm(1.0, &self.g0, &ws.mr, 0.0);
         ws.cz.gemm(1.0, &self.g0, &ws.mz, 0.0);
@@ -543,6 +627,13 @@ impl MovingNetwork {
         tables.ensure(&geo.ring_radius);
         ws.set_rows(tables.rank());
         ws.projected = true;
+        // Mirror symmetry without axial output: only the combined columns of the
+        // representatives are needed (half the series).
+        ws.reduced = !axial && self.reps.len() < self.rings.iter().map(|r| r.filaments.len()).sum();
+        if ws.reduced {
+            tables.fill_reduced(&geo.ring_radius, &mut ws.cr, &mut ws.dcr);
+            return;
+        }
         let Workspace { c, dc, cz, dcz, fa, .. } = ws;
         let axial_out = if axial { Some((&mut *cz, &mut *dcz)) } else { None };
         tables.fill(&geo.ring_radius, c, dc, axial_out);
@@ -557,29 +648,63 @@ impl MovingNetwork {
         }
     }
 
-    /// The workpiece block, its force factors and the cells' ∂L_kk/∂(dr), from the kernel
-    /// (n_w²/2 pair evaluations).
+    /// The workpiece block, its force factors and the cells' ∂L_kk/∂(dr), from the kernel:
+    /// n_w²/2 pair evaluations, or n_w²/4 with mirror symmetry (Qᵀ D Q needs M_kl and
+    /// M_kl' for the representatives k, l and the partner l' of l; the rest follows by
+    /// reflection).
     fn workpiece_block(&self, geo: &WorkGeometry, ws: &mut Workspace) {
         let mesh: &Mesh = &self.base.mesh;
         let w0 = mesh.workpiece_start();
-        let nw = mesh.filaments.len() - w0;
         let (wr, wdr, wz) = (&geo.wr, &geo.wdr, &geo.wz);
-        for k in 0..nw {
+        let reps = &self.reps;
+        for (a, ra) in reps.iter().enumerate() {
+            let k = ra.k;
             let dz = mesh.filaments[w0 + k].dz;
-            ws.d[(k, k)] = inductance::ring_rectangular(wr[k], wdr[k], dz);
-            ws.gd[(k, k)] = 0.5 * inductance::ring_rectangular_dradius(wr[k], wdr[k], dz);
+            let mut own = inductance::ring_rectangular(wr[k], wdr[k], dz);
+            let mut own_r = 0.5 * inductance::ring_rectangular_dradius(wr[k], wdr[k], dz);
             // ∂L_kk/∂(dr) at fixed radius, by a central difference of the GMD formula (the
             // step 1e-5 relative keeps its error near 1e-10, far below the solver tolerance).
             let e = 1e-5 * wdr[k];
-            ws.self_dr[k] = (inductance::ring_rectangular(wr[k], wdr[k] + e, dz)
+            let self_dr = (inductance::ring_rectangular(wr[k], wdr[k] + e, dz)
                 - inductance::ring_rectangular(wr[k], wdr[k] - e, dz))
                 / (2.0 * e);
-            for l in (k + 1)..nw {
+            ws.self_dr[k] = self_dr;
+            if let Some(kp) = ra.partner {
+                ws.self_dr[kp] = self_dr;
+                let g = filament::mutual_inductance_with_gradient(wr[k], wr[kp], wz[kp] - wz[k]);
+                own += g.m;
+                own_r += g.dm_da;
+            }
+            ws.d[(a, a)] = own;
+            ws.gd[(a, a)] = own_r;
+            for (b, rb) in reps.iter().enumerate().skip(a + 1) {
+                let l = rb.k;
                 let g = filament::mutual_inductance_with_gradient(wr[k], wr[l], wz[l] - wz[k]);
-                ws.d[(k, l)] = g.m;
-                ws.d[(l, k)] = g.m;
-                ws.gd[(l, k)] = g.dm_db;
-                ws.gd[(k, l)] = g.dm_da;
+                // Sums over the filaments of each representative: row a against b's group
+                // and row b against a's group (in H and H/m).
+                let (m_ab, m_ba, f_ab, f_ba) = match (ra.partner, rb.partner) {
+                    (Some(_), Some(lp)) => {
+                        // M_kl' = M_k'l by reflection, and ∂M_kl'/∂r_l' = ∂M_lk'/∂r_l.
+                        let h = filament::mutual_inductance_with_gradient(
+                            wr[k],
+                            wr[lp],
+                            wz[lp] - wz[k],
+                        );
+                        (g.m + h.m, g.m + h.m, g.dm_da + h.dm_da, g.dm_db + h.dm_db)
+                    }
+                    // l on the plane: M_k'l = M_kl.
+                    (Some(_), None) => (g.m, 2.0 * g.m, g.dm_da, 2.0 * g.dm_db),
+                    // k on the plane: M_kl' = M_kl.
+                    (None, Some(_)) => (2.0 * g.m, g.m, 2.0 * g.dm_da, g.dm_db),
+                    (None, None) => (g.m, g.m, g.dm_da, g.dm_db),
+                };
+                // Qᵀ D Q with the orthonormal combinations (e_k + e_k')/√2.
+                let v = m_ab * ra.norm() / rb.norm();
+                debug_assert!((v - m_ba * rb.norm() / ra.norm()).abs() <= 1e-12 * v.abs());
+                ws.d[(a, b)] = v;
+                ws.d[(b, a)] = v;
+                ws.gd[(a, b)] = f_ab;
+                ws.gd[(b, a)] = f_ba;
             }
         }
     }
@@ -622,16 +747,33 @@ impl MovingNetwork {
         let nr = self.rings.len();
         let ncl = self.n_coil_loops;
         let (wr, wdr) = (&geo.wr, &geo.wdr);
-        // Schur complement S = D − CᵀC and its Cholesky factor (the buffer is handed to the
-        // factorisation and taken back after the solve, so nothing is allocated).
+        let nh = self.reps.len();
+        // G Q: columns combined over mirror pairs (already there when `reduced`).
+        for (a, ra) in self.reps.iter().enumerate().filter(|_| !ws.reduced) {
+            let rows = ws.c.nrows();
+            let (src, dst) = (ws.c.as_slice(), ws.cr.as_mut_slice());
+            let col = &src[ra.k * rows..(ra.k + 1) * rows];
+            let out = &mut dst[a * rows..(a + 1) * rows];
+            match ra.partner {
+                Some(kp) => {
+                    let other = &src[kp * rows..(kp + 1) * rows];
+                    for ((o, u), v) in out.iter_mut().zip(col).zip(other) {
+                        *o = (u + v) * std::f64::consts::FRAC_1_SQRT_2;
+                    }
+                }
+                None => out.copy_from_slice(col),
+            }
+        }
+        // Schur complement S = Qᵀ (D − CᵀC) Q and its Cholesky factor (the buffer is handed to
+        // the factorisation and taken back after the solve, so nothing is allocated).
         ws.s.copy_from(&ws.d);
-        ws.c.transpose_to(&mut ws.ct);
-        ws.s.gemm(-1.0, &ws.ct, &ws.c, 1.0);
+        ws.cr.transpose_to(&mut ws.ct);
+        ws.s.gemm(-1.0, &ws.ct, &ws.cr, 1.0);
         let s = std::mem::replace(&mut ws.s, DMatrix::zeros(0, 0));
         let Some(chol) = Cholesky::<f64, Dyn>::new(s) else {
             // The factorisation consumed the buffer: give it back before failing, so that the
             // next evaluation (the stepper retries with a shorter step) finds it whole.
-            ws.s = DMatrix::zeros(nw, nw);
+            ws.s = DMatrix::zeros(nh, nh);
             return Err(EngineError::IndefiniteInductance {
                 conductor: "the moving workpiece (cells too close to the coil or too deformed)"
                     .into(),
@@ -646,11 +788,29 @@ impl MovingNetwork {
         let tables = self.tables.borrow();
         let basis = tables.basis();
         let phi_u = if ws.projected { basis.tr_mul(&phi) } else { phi.clone() };
-        let mut x_w = psi.rows(ncl, nw).into_owned();
-        x_w.gemv_tr(-1.0, &ws.c, &phi_u, 1.0);
-        chol.solve_mut(&mut x_w);
+        // In the reduced space: x̃ = S̃⁻¹ Qᵀ (ψ_w − Cᵀ φ); a mirror pair carries x̃_a/√2 each.
+        let mut x_r = DVector::zeros(nh);
+        for (a, ra) in self.reps.iter().enumerate() {
+            x_r[a] = match ra.partner {
+                Some(kp) => (psi[ncl + ra.k] + psi[ncl + kp]) * std::f64::consts::FRAC_1_SQRT_2,
+                None => psi[ncl + ra.k],
+            };
+        }
+        x_r.gemv_tr(-1.0, &ws.cr, &phi_u, 1.0);
+        chol.solve_mut(&mut x_r);
         ws.s = chol.unpack();
-        let g_x = &ws.c * &x_w;
+        let g_x = &ws.cr * &x_r;
+        let mut x_w = DVector::zeros(nw);
+        // Physical currents of the representatives, in the order of `reps`.
+        let mut x_rep = DVector::zeros(nh);
+        for (a, ra) in self.reps.iter().enumerate() {
+            let v = x_r[a] / ra.norm();
+            x_rep[a] = v;
+            x_w[ra.k] = v;
+            if let Some(kp) = ra.partner {
+                x_w[kp] = v;
+            }
+        }
         let xi_u = &phi_u - &g_x;
         let mut xi = phi;
         if ws.projected {
@@ -686,8 +846,32 @@ impl MovingNetwork {
         }
         // Forces: the coil part of ∂W/∂r_q is Σ_k x_k (∂C_k/∂r_q · ξ), the workpiece part
         // ½ x_wᵀ (∂D/∂r_q) x_w with the layer positions and the thinning.
-        let f_coil = ws.dc.tr_mul(&xi_u); // per filament: ∂C_k/∂r_q · ξ = ∂G_k/∂r_q · ξ_U
-        let fr_w = &ws.gd * &x_w; // Σ_l ∂M_kl/∂r_k x_l, ½ ∂L_kk/∂r_k x_k on the diagonal
+        // Per filament: ∂C_k/∂r_q · ξ = ∂G_k/∂r_q · ξ_U. From the combined columns, a mirror
+        // pair's (∂G_k + ∂G_k')/√2 · ξ_U is √2 times each one's (ξ is symmetric).
+        let f_coil = if ws.reduced {
+            let f_rep = ws.dcr.tr_mul(&xi_u);
+            let mut f = DVector::zeros(nw);
+            for (a, ra) in self.reps.iter().enumerate() {
+                let v = f_rep[a] / ra.norm();
+                f[ra.k] = v;
+                if let Some(kp) = ra.partner {
+                    f[kp] = v;
+                }
+            }
+            f
+        } else {
+            ws.dc.tr_mul(&xi_u)
+        };
+        // Σ_l ∂M_kl/∂r_k x_l (½ ∂L_kk/∂r_k x_k on the diagonal) per representative, the same for
+        // its partner.
+        let fr_rep = &ws.gd * &x_rep;
+        let mut fr_w = DVector::zeros(nw);
+        for (a, ra) in self.reps.iter().enumerate() {
+            fr_w[ra.k] = fr_rep[a];
+            if let Some(kp) = ra.partner {
+                fr_w[kp] = fr_rep[a];
+            }
+        }
         let axial = self.axial_free || full;
         let f_axial = if axial { Some(ws.cz.tr_mul(&xi_u)) } else { None };
         let mut ring_force = vec![0.0; nr];
@@ -711,6 +895,14 @@ impl MovingNetwork {
         if !self.axial_free {
             // Zero by symmetry; what the sum holds is rounding.
             axial_force = 0.0;
+        }
+        // Mirror rings feel the same radial force; copying it keeps their states identical
+        // (the coupling columns of the two differ in rounding).
+        for (q, &p) in self.ring_partner.iter().enumerate() {
+            if p < q {
+                ring_force[q] = ring_force[p];
+                ring_lorentz[q] = ring_lorentz[p];
+            }
         }
         // Coil turn radial forces (coil held): coil-coil constant part plus coupling.
         let mut turn_force = vec![0.0; mesh.turns];
@@ -774,12 +966,60 @@ impl Workspace {
             return;
         }
         let nw = self.c.ncols();
+        let nh = self.cr.ncols();
         self.c = DMatrix::zeros(rows, nw);
-        self.ct = DMatrix::zeros(nw, rows);
+        self.cr = DMatrix::zeros(rows, nh);
+        self.dcr = DMatrix::zeros(rows, nh);
+        self.ct = DMatrix::zeros(nh, rows);
         self.dc = DMatrix::zeros(rows, nw);
         self.cz = DMatrix::zeros(rows, nw);
         self.dcz = DMatrix::zeros(rows, nw);
     }
+}
+
+/// The representative filaments for a ring pairing: the layers of every ring whose partner's
+/// index is not below its own, with the partner ring's same layer.
+fn representatives(rings: &[Ring], ring_partner: &[usize]) -> Vec<Rep> {
+    let mut reps = Vec::new();
+    for (q, ring) in rings.iter().enumerate() {
+        let p = ring_partner[q];
+        if p < q {
+            continue;
+        }
+        for (j, &k) in ring.filaments.iter().enumerate() {
+            let partner = if p == q { None } else { rings[p].filaments.get(j).copied() };
+            reps.push(Rep { k, partner });
+        }
+    }
+    reps
+}
+
+/// The mirror partner of every ring of a mirror-symmetric set-up (about the middle plane of
+/// the coil, as in [`mirror_symmetric`]): the ring of the same radius, wall, length and
+/// layers at the reflected axial position, itself for a ring on the plane; `None` when some
+/// ring has no partner.
+fn ring_mirror(mesh: &Mesh, rings: &[Ring]) -> Option<Vec<usize>> {
+    let coil: Vec<&crate::mesh::Filament> =
+        mesh.filaments.iter().filter(|x| matches!(x.part, Part::Coil { .. })).collect();
+    if coil.is_empty() {
+        return None;
+    }
+    let zc = coil.iter().map(|x| x.z).sum::<f64>() / coil.len() as f64;
+    let scale = rings.iter().fold(0.0f64, |m, r| m.max(r.r0 + r.h0).max((r.z0 - zc).abs()));
+    let tol = 1e-9 * scale;
+    let same = |u: f64, v: f64| (u - v).abs() <= tol;
+    rings
+        .iter()
+        .map(|ring| {
+            rings.iter().position(|other| {
+                same(other.z0 - zc, zc - ring.z0)
+                    && same(other.r0, ring.r0)
+                    && same(other.h0, ring.h0)
+                    && same(other.dz, ring.dz)
+                    && other.filaments.len() == ring.filaments.len()
+            })
+        })
+        .collect()
 }
 
 /// True when the coil and workpiece filaments are mirror images of themselves about one
@@ -1451,8 +1691,10 @@ mod tests {
         }
         let geo = net.geometry(&y, &ms).unwrap();
         let mut ws = net.ws.borrow_mut();
-        net.coupling(&geo, &mut ws, false);
-        assert!(ws.projected);
+        // With the coil's own forces asked for, the tables fill every filament's column (the
+        // profile is not mirror-symmetric, so the reduced columns would not apply).
+        net.coupling(&geo, &mut ws, true);
+        assert!(ws.projected && !ws.reduced);
         let rank = ws.c.nrows();
         assert!(rank > 10 && rank < net.n_coil_loops, "basis of {rank} vectors");
         let basis = net.tables.borrow().basis().clone();
@@ -1467,6 +1709,92 @@ mod tests {
         assert!(dc_err < 300.0 * tol * dc_max, "∂C/∂r off by {:e} of {dc_max:e}", dc_err / dc_max);
         // Several windows were needed for the profile.
         assert!(net.table_windows() > nr, "{} windows for {nr} rings", net.table_windows());
+    }
+
+    /// A mirror-symmetric profile on a mirror-symmetric set-up: the reduced tables'
+    /// combined columns (G_k + G_k')/√2 and their radial derivatives equal the same
+    /// combination of Maxwell's formula, and the reduced evaluation (half the workpiece
+    /// block) gives the currents and forces of the full one.
+    #[test]
+    fn mirror_reduction_matches_the_full_network() {
+        let mut case = crate::reference::coarse_expansion_case();
+        case.discretization.mode =
+            ringpulse_case::Resolution::SkinDepth { cell_over_skin_depth: 1.0 };
+        let tol = 1e-9;
+        let mut net = network(&case, tol);
+        assert!(!net.axial_free());
+        let nw: usize = net.rings.iter().map(|r| r.filaments.len()).sum();
+        assert!(2 * net.reps.len() <= nw + 4, "{} representatives of {nw}", net.reps.len());
+        let lay = net.layout();
+        let ms = MechScales { length: 1.5e-3, velocity: 100.0, temperature: 300.0 };
+        let nr = net.n_rings();
+        let zc = 0.5 * (net.ring_z0(0) + net.ring_z0(nr - 1));
+        let half = 0.5 * (net.ring_z0(nr - 1) - net.ring_z0(0));
+        let mut y = DVector::zeros(lay.len);
+        for q in 0..nr {
+            // Bulging in the middle: 2.4 mm there, 0.1 mm inward at the ends.
+            let u = (net.ring_z0(q) - zc) / half;
+            y[lay.rings + 4 * q] = (-0.1e-3 + 2.5e-3 * (1.0 - u * u)) / ms.length;
+        }
+        // A flux state with mirror-equal workpiece linkages and some coil flux.
+        let scales = Scales { psi: 1.0, volt: 1.0, energy: 1.0, charge: 1.0, action: 1.0 };
+        y[0] = 1e-3;
+        for (q, ring) in net.rings.iter().enumerate() {
+            let u = (net.ring_z0(q) - zc) / half;
+            for &k in &ring.filaments {
+                y[lay.nl - nw + k] =
+                    -2e-4 * (1.0 - 0.5 * u * u) * (1.0 + 0.1 * k as f64 / nw as f64);
+            }
+        }
+        for (q, &p) in net.ring_partner.iter().enumerate() {
+            for (&k, &kp) in net.rings[q].filaments.iter().zip(&net.rings[p].filaments) {
+                let v = y[lay.nl - nw + k.min(kp)];
+                y[lay.nl - nw + k] = v;
+            }
+        }
+        for f in 0..net.base.mesh.filaments.len() {
+            y[lay.temps + f] = 1.0;
+        }
+        let geo = net.geometry(&y, &ms).unwrap();
+        {
+            let mut ws = net.ws.borrow_mut();
+            net.coupling(&geo, &mut ws, false);
+            assert!(ws.reduced);
+            let basis = net.tables.borrow().basis().clone();
+            let cr = &basis * &ws.cr;
+            let dcr = &basis * &ws.dcr;
+            net.coupling_exact(&geo, &mut ws, false);
+            let mut c_err: f64 = 0.0;
+            let mut dc_err: f64 = 0.0;
+            for (a, ra) in net.reps.iter().enumerate() {
+                let mut col = ws.c.column(ra.k).into_owned();
+                let mut dcol = ws.dc.column(ra.k).into_owned();
+                if let Some(kp) = ra.partner {
+                    col = (col + ws.c.column(kp)) * std::f64::consts::FRAC_1_SQRT_2;
+                    dcol = (dcol + ws.dc.column(kp)) * std::f64::consts::FRAC_1_SQRT_2;
+                }
+                c_err = c_err.max((cr.column(a) - col).amax());
+                dc_err = dc_err.max((dcr.column(a) - dcol).amax());
+            }
+            let (c_max, dc_max) = (ws.c.amax(), ws.dc.amax());
+            assert!(c_err < 10.0 * tol * c_max, "C off by {:e}", c_err / c_max);
+            assert!(dc_err < 300.0 * tol * dc_max, "∂C/∂r off by {:e}", dc_err / dc_max);
+        }
+        let branches = vec![Branch::Elastic; nr];
+        let reduced = net.evaluate(&y, &scales, &ms, &branches, false).unwrap();
+        net.set_mirror_reduction(false);
+        assert_eq!(net.reps.len(), nw);
+        let full = net.evaluate(&y, &scales, &ms, &branches, false).unwrap();
+        let rel = |a: &[f64], b: &[f64]| {
+            let top = b.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+            a.iter().zip(b).fold(0.0f64, |m, (u, v)| m.max((u - v).abs())) / top
+        };
+        let dx = rel(reduced.x.as_slice(), full.x.as_slice());
+        let df = rel(&reduced.ring_force, &full.ring_force);
+        let dl = rel(&reduced.ring_lorentz, &full.ring_lorentz);
+        // Both use the same table data and differ in rounding only (measured 1e-13).
+        assert!(dx < 1e-10 && df < 1e-10 && dl < 1e-10, "currents {dx:e}, forces {df:e}, {dl:e}");
+        assert!(full.ring_force.iter().any(|f| f.abs() > 0.0));
     }
 
     /// The demos' coil and workpiece are mirror images about the coil's mid-plane; shifting the

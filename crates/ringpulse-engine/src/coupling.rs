@@ -91,6 +91,9 @@ struct Window {
     /// layer and the partner's same layer at the same mean radius (the symmetric combination
     /// the motion engine solves for); empty otherwise.
     cs: Vec<DMatrix<f64>>,
+    /// For a ring with a mirror partner, per layer: n_coil × TERMS coefficients of
+    /// ∂M_jk/∂a_j + ∂M_jk'/∂a_j; empty otherwise.
+    fas: Vec<DMatrix<f64>>,
 }
 
 /// The tables of all rings.
@@ -101,8 +104,12 @@ pub struct CouplingTables {
     /// Coil filaments (positions and sizes).
     coil: Vec<Filament>,
     rings: Vec<RingShape>,
-    /// Mirror partner of each ring (itself on the plane or without symmetry).
+    /// Mirror partner of each ring (itself on the plane or without symmetry). A ring whose
+    /// partner has the lower index gets no windows: its partner's carry the pair.
     partner: Vec<usize>,
+    /// Mirror image of each coil filament (with ring partners): M(coil i, k') equals
+    /// M(coil image[i], k) for mirror filaments k, k'.
+    coil_image: Vec<usize>,
     /// Initial window width of each ring, in metres.
     width: Vec<f64>,
     /// Grid origin of each ring's windows, in metres.
@@ -202,15 +209,16 @@ fn column_mut(m: &mut DMatrix<f64>, k: usize) -> &mut [f64] {
 impl CouplingTables {
     /// Tables for the rings of a workpiece against the coil filaments `coil`, with
     /// `g0` = L_A⁻¹ P_cᵀ, built at axial shift `z_anchor`; a window is accepted when its
-    /// coefficient tail is below `tolerance`. `partner` gives each ring's mirror partner (its
-    /// own index on the plane or without symmetry); a ring with a partner also gets the
-    /// combined series of [`CouplingTables::fill_reduced`]. Builds the window around every
-    /// ring's initial radius.
+    /// coefficient tail is below `tolerance`. `mirror`, for a mirror-symmetric set-up, gives
+    /// each ring's mirror partner (its own index on the plane) and each coil filament's
+    /// mirror image; the tables then hold the combined series of
+    /// [`CouplingTables::fill_reduced`] for one ring of each pair, and only the reduced
+    /// fills may be used. Builds the window around every ring's initial radius.
     pub fn new(
         g0: DMatrix<f64>,
         coil: Vec<Filament>,
         rings: Vec<RingShape>,
-        partner: Vec<usize>,
+        mirror: Option<(Vec<usize>, Vec<usize>)>,
         z_anchor: f64,
         tolerance: f64,
     ) -> CouplingTables {
@@ -233,19 +241,23 @@ impl CouplingTables {
             base.push(ring.r0 - 0.25 * w);
         }
         let n = rings.len();
-        let partner = if partner.len() == rings.len()
-            && partner.iter().enumerate().all(|(q, &p)| {
-                p < rings.len() && rings[p].layers == rings[q].layers && partner[p] == q
-            }) {
-            partner
-        } else {
-            (0..rings.len()).collect()
+        let valid = |(partner, image): &(Vec<usize>, Vec<usize>)| {
+            partner.len() == rings.len()
+                && partner.iter().enumerate().all(|(q, &p)| {
+                    p < rings.len() && rings[p].layers == rings[q].layers && partner[p] == q
+                })
+                && image.len() == coil.len()
+                && image.iter().enumerate().all(|(i, &j)| j < coil.len() && image[j] == i)
         };
+        let (partner, coil_image) = mirror
+            .filter(valid)
+            .unwrap_or_else(|| ((0..rings.len()).collect(), (0..coil.len()).collect()));
         let mut tables = CouplingTables {
             g0,
             coil,
             rings,
             partner,
+            coil_image,
             width,
             base,
             windows: vec![Vec::new(); n],
@@ -261,6 +273,18 @@ impl CouplingTables {
         let radii: Vec<f64> = tables.rings.iter().map(|r| r.r0).collect();
         tables.ensure(&radii);
         tables
+    }
+
+    /// Fresh tables for the same coil and rings without the mirror pairing (for checks).
+    pub fn without_mirror(&self) -> CouplingTables {
+        CouplingTables::new(
+            self.g0.clone(),
+            self.coil.clone(),
+            self.rings.clone(),
+            None,
+            self.z_anchor,
+            self.tolerance,
+        )
     }
 
     /// Number of windows built so far.
@@ -339,15 +363,19 @@ impl CouplingTables {
         }
     }
 
+    /// The window of ring q that covers radius r (windows are sorted and do not overlap, so a
+    /// binary search finds the first one whose upper end reaches r).
     fn find(&self, q: usize, r: f64) -> Option<usize> {
-        self.windows[q].iter().position(|w| r >= w.lo && r <= w.hi)
+        let wins = &self.windows[q];
+        let i = wins.partition_point(|w| w.hi < r);
+        wins.get(i).filter(|w| r >= w.lo && r <= w.hi).map(|_| i)
     }
 
     /// Builds whatever windows are missing for rings at mean radii `radii` (metres).
     pub fn ensure(&mut self, radii: &[f64]) {
         let mut wanted: Vec<(usize, f64, f64)> = Vec::new();
         for (q, &r) in radii.iter().enumerate() {
-            if !(r.is_finite() && r > 0.0) || self.find(q, r).is_some() {
+            if self.partner[q] < q || !(r.is_finite() && r > 0.0) || self.find(q, r).is_some() {
                 continue;
             }
             let w = self.width[q];
@@ -367,6 +395,7 @@ impl CouplingTables {
                     .chain(win.cz.iter())
                     .chain(win.fa.iter())
                     .chain(win.cs.iter())
+                    .chain(win.fas.iter())
                     .all(|m| tail(m) <= self.tolerance);
                 let narrow = hi - lo <= self.width[q] * MIN_WIDTH_FRACTION;
                 if converged || narrow {
@@ -396,7 +425,11 @@ impl CouplingTables {
         let mut col_s = 0;
         for w in &windows {
             for (c, cz) in w.c.iter().zip(&w.cz) {
-                data_c.columns_mut(col, TERMS).copy_from(c);
+                // A paired ring's own C is not used (the engine works with the combined
+                // columns), so it does not widen the basis.
+                if w.cs.is_empty() {
+                    data_c.columns_mut(col, TERMS).copy_from(c);
+                }
                 data_z.columns_mut(col, TERMS).copy_from(cz);
                 col += TERMS;
             }
@@ -407,7 +440,9 @@ impl CouplingTables {
         }
         if self.norm_ref == 0.0 {
             let max_norm = |m: &DMatrix<f64>| m.column_iter().map(|c| c.norm()).fold(0.0, f64::max);
-            self.norm_ref = max_norm(&data_c);
+            // (a paired ring contributes its combined columns, √2 times its own in size)
+            self.norm_ref =
+                max_norm(&data_c).max(max_norm(&data_s) * std::f64::consts::FRAC_1_SQRT_2);
             let nz = max_norm(&data_z);
             self.z_weight = if nz > 0.0 { self.norm_ref / nz } else { 0.0 };
         }
@@ -425,6 +460,7 @@ impl CouplingTables {
                 cz: w.cz.iter().map(|c| self.basis.tr_mul(c)).collect(),
                 fa: w.fa,
                 cs: w.cs.iter().map(|c| self.basis.tr_mul(c)).collect(),
+                fas: w.fas,
             })
             .collect()
     }
@@ -434,41 +470,52 @@ impl CouplingTables {
     fn build(&self, wanted: &[(usize, f64, f64)]) -> Vec<Window> {
         let nc = self.coil.len();
         let x = nodes();
-        // Columns: for each window, each layer, each node; then for a ring with a mirror
-        // partner the partner's layers at the same radii.
+        // Columns: for each window, each layer, each node.
         let paired = |q: usize| self.partner[q] != q;
-        let cols: usize = wanted
+        let cols: usize = wanted.iter().map(|&(q, _, _)| self.rings[q].layers * TERMS).sum();
+        let cols_s: usize = wanted
             .iter()
-            .map(|&(q, _, _)| self.rings[q].layers * TERMS * if paired(q) { 2 } else { 1 })
+            .filter(|&&(q, _, _)| paired(q))
+            .map(|&(q, _, _)| self.rings[q].layers * TERMS)
             .sum();
         let mut m = DMatrix::<f64>::zeros(nc, cols);
         let mut mz = DMatrix::<f64>::zeros(nc, cols);
         let mut ma = DMatrix::<f64>::zeros(nc, cols);
+        // For paired rings: M_ik + M_ik' (= M_ik + M_image(i),k) and the same for ∂M/∂a_i.
+        let mut ms = DMatrix::<f64>::zeros(nc, cols_s);
+        let mut mas = DMatrix::<f64>::zeros(nc, cols_s);
         let mut col = 0;
+        let mut col_s = 0;
         for &(q, lo, hi) in wanted {
-            let own = std::iter::once(q);
-            let mirror = if paired(q) { Some(self.partner[q]) } else { None };
-            for ring in own.chain(mirror).map(|p| &self.rings[p]) {
-                for j in 0..ring.layers {
-                    for xi in x.iter() {
-                        let r = 0.5 * (lo + hi) + 0.5 * (hi - lo) * xi;
-                        let rk = ring.layer_radius(j, r);
-                        let zk = ring.z0 + self.z_anchor;
-                        for (i, c) in self.coil.iter().enumerate() {
-                            let g = filament::mutual_inductance_with_gradient(c.r, rk, zk - c.z);
-                            m[(i, col)] = g.m;
-                            mz[(i, col)] = g.dm_dz;
-                            ma[(i, col)] = g.dm_da;
-                        }
-                        col += 1;
+            let ring = &self.rings[q];
+            for j in 0..ring.layers {
+                for xi in x.iter() {
+                    let r = 0.5 * (lo + hi) + 0.5 * (hi - lo) * xi;
+                    let rk = ring.layer_radius(j, r);
+                    let zk = ring.z0 + self.z_anchor;
+                    for (i, c) in self.coil.iter().enumerate() {
+                        let g = filament::mutual_inductance_with_gradient(c.r, rk, zk - c.z);
+                        m[(i, col)] = g.m;
+                        mz[(i, col)] = g.dm_dz;
+                        ma[(i, col)] = g.dm_da;
                     }
+                    if paired(q) {
+                        for (i, &image) in self.coil_image.iter().enumerate() {
+                            ms[(i, col_s)] = m[(i, col)] + m[(image, col)];
+                            mas[(i, col_s)] = ma[(i, col)] + ma[(image, col)];
+                        }
+                        col_s += 1;
+                    }
+                    col += 1;
                 }
             }
         }
         let cm = &self.g0 * &m;
         let cmz = &self.g0 * &mz;
+        let cms = (&self.g0 * &ms) * std::f64::consts::FRAC_1_SQRT_2;
         let mut out = Vec::with_capacity(wanted.len());
         let mut col = 0;
+        let mut col_s = 0;
         for &(q, lo, hi) in wanted {
             let layers = self.rings[q].layers;
             let mut win = Window {
@@ -478,21 +525,17 @@ impl CouplingTables {
                 cz: Vec::with_capacity(layers),
                 fa: Vec::with_capacity(layers),
                 cs: Vec::new(),
+                fas: Vec::new(),
             };
             for _ in 0..layers {
                 win.c.push(coefficients(&cm.columns(col, TERMS).into_owned()));
                 win.cz.push(coefficients(&cmz.columns(col, TERMS).into_owned()));
                 win.fa.push(coefficients(&ma.columns(col, TERMS).into_owned()));
                 col += TERMS;
-            }
-            if paired(q) {
-                let first = col - layers * TERMS;
-                for j in 0..layers {
-                    let own = cm.columns(first + j * TERMS, TERMS);
-                    let other = cm.columns(col, TERMS);
-                    let sum = (own + other) * std::f64::consts::FRAC_1_SQRT_2;
-                    win.cs.push(coefficients(&sum));
-                    col += TERMS;
+                if paired(q) {
+                    win.cs.push(coefficients(&cms.columns(col_s, TERMS).into_owned()));
+                    win.fas.push(coefficients(&mas.columns(col_s, TERMS).into_owned()));
+                    col_s += TERMS;
                 }
             }
             out.push(win);
@@ -540,12 +583,10 @@ impl CouplingTables {
         });
     }
 
-    /// Fills, for a mirror-symmetric workpiece at mean radii `radii` (metres; a ring and its
-    /// partner at the same radius), one column per representative filament (the layers of
-    /// each ring whose partner's index is not below its own, in ring order) of `c` with
-    /// (G_k + G_k')/√2 and of `dc` with its derivative against the ring's radius (G_k and
-    /// ∂G_k/∂r_q for a ring on the plane). The matrices need [`CouplingTables::rank`] rows.
-    pub fn fill_reduced(&self, radii: &[f64], c: &mut DMatrix<f64>, dc: &mut DMatrix<f64>) {
+    /// Calls `f(a, window, layer, x)` for every representative filament a of a mirror pairing
+    /// (the layers of each ring whose partner's index is not below its own, in ring order;
+    /// every filament without symmetry), as [`CouplingTables::each_filament`] does.
+    fn each_rep(&self, radii: &[f64], mut f: impl FnMut(usize, &Window, usize, f64)) {
         let mut a = 0;
         for (q, &r) in radii.iter().enumerate() {
             if self.partner[q] < q {
@@ -555,15 +596,55 @@ impl CouplingTables {
             if let Some(wi) = self.find(q, r) {
                 let win = &self.windows[q][wi];
                 let x = (2.0 * r - win.lo - win.hi) / (win.hi - win.lo);
-                let scale = 2.0 / (win.hi - win.lo);
-                let (t, d) = chebyshev(x);
-                let coefs = if win.cs.is_empty() { &win.c } else { &win.cs };
-                for (j, coef) in coefs.iter().enumerate().take(layers) {
-                    series(coef, &t, &d, scale, column_mut(c, a + j), column_mut(dc, a + j));
+                for j in 0..layers {
+                    f(a + j, win, j, x);
                 }
             }
             a += layers;
         }
+    }
+
+    /// Fills, for a mirror-symmetric workpiece at mean radii `radii` (metres; a ring and its
+    /// partner at the same radius), one column per representative filament of `c` with
+    /// (G_k + G_k')/√2 and of `dc` with its derivative against the ring's radius (G_k and
+    /// ∂G_k/∂r_q for a ring on the plane). The matrices need [`CouplingTables::rank`] rows.
+    pub fn fill_reduced(&self, radii: &[f64], c: &mut DMatrix<f64>, dc: &mut DMatrix<f64>) {
+        self.each_rep(radii, |a, win, j, x| {
+            let scale = 2.0 / (win.hi - win.lo);
+            let (t, d) = chebyshev(x);
+            let coef = if win.cs.is_empty() { &win.c[j] } else { &win.cs[j] };
+            series(coef, &t, &d, scale, column_mut(c, a), column_mut(dc, a));
+        });
+    }
+
+    /// The outputs of a mirror-symmetric workpiece beyond the right-hand side, one column per
+    /// representative filament k: in `cz` its own ∂G_k/∂z (the partner's is its negative),
+    /// and in `fa` (n_coil rows) ∂M_jk/∂a_j + ∂M_jk'/∂a_j over the pair (the coil's radial
+    /// force factor against the pair's common current; its own for a ring on the plane).
+    pub fn fill_reduced_outputs(
+        &self,
+        radii: &[f64],
+        cz: &mut DMatrix<f64>,
+        fa: &mut DMatrix<f64>,
+    ) {
+        self.each_rep(radii, |a, win, j, x| {
+            let (t, _) = chebyshev(x);
+            let coef = &win.cz[j];
+            let n = coef.nrows();
+            let out = column_mut(cz, a);
+            out.fill(0.0);
+            for (ta, src) in t.iter().zip(coef.as_slice().chunks_exact(n)) {
+                for (o, c) in out[..n].iter_mut().zip(src) {
+                    *o += ta * c;
+                }
+            }
+            let coef = if win.fas.is_empty() { &win.fa[j] } else { &win.fas[j] };
+            let mut v = fa.column_mut(a);
+            v.fill(0.0);
+            for (b, tb) in t.iter().enumerate() {
+                v.axpy(*tb, &coef.column(b), 1.0);
+            }
+        });
     }
 
     /// Fills column k of `fa` (n_coil × n_workpiece) with ∂M_jk/∂a_j for rings at `radii`.

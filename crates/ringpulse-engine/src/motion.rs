@@ -170,6 +170,12 @@ struct Workspace {
     /// Its derivative, column a against the radius of representative a's ring, rows × n_h,
     /// in H^½/m (filled only with `reduced`).
     dcr: DMatrix<f64>,
+    /// Own ∂G_k/∂z of each representative, rows × n_h, in H^½/m (with `reduced` and the
+    /// sampled outputs).
+    czr: DMatrix<f64>,
+    /// ∂M_jk/∂a_j summed over each representative's pair, n_c × n_h, in H/m (with `reduced`
+    /// and the sampled outputs).
+    far: DMatrix<f64>,
     /// True when the tables filled `cr` and `dcr` directly (mirror symmetry, no axial
     /// output): `c`, `dc`, `cz` and `dcz` are then stale.
     reduced: bool,
@@ -379,9 +385,9 @@ impl MovingNetwork {
             }
         }
         let axial_free = !mirror_symmetric(mesh);
-        let ring_partner = if axial_free { None } else { ring_mirror(mesh, &rings) }
-            .filter(|p| p.iter().enumerate().all(|(q, &r)| p[r] == q))
-            .unwrap_or_else(|| (0..rings.len()).collect());
+        let mirror = if axial_free { None } else { mirror_maps(mesh, &rings) };
+        let ring_partner =
+            mirror.as_ref().map_or_else(|| (0..rings.len()).collect(), |(p, _)| p.clone());
         let shapes: Vec<RingShape> = rings
             .iter()
             .map(|r| RingShape { r0: r.r0, h0: r.h0, z0: r.z0, layers: r.filaments.len() })
@@ -390,7 +396,7 @@ impl MovingNetwork {
             g0.clone(),
             mesh.filaments[..w0].to_vec(),
             shapes,
-            ring_partner.clone(),
+            mirror,
             0.0,
             table_tolerance,
         );
@@ -402,6 +408,8 @@ impl MovingNetwork {
             c: DMatrix::zeros(n_coil_loops, nw),
             cr: DMatrix::zeros(n_coil_loops, nh),
             dcr: DMatrix::zeros(n_coil_loops, nh),
+            czr: DMatrix::zeros(n_coil_loops, nh),
+            far: DMatrix::zeros(w0, nh),
             reduced: false,
             ct: DMatrix::zeros(nh, n_coil_loops),
             dc: DMatrix::zeros(n_coil_loops, nw),
@@ -447,16 +455,18 @@ impl MovingNetwork {
         self.exact_coupling = exact;
     }
 
-    /// Uses the mirror symmetry of the set-up to halve the workpiece block (the default when
-    /// the set-up is mirror-symmetric), or not (for checks).
-    pub fn set_mirror_reduction(&mut self, on: bool) {
-        let partner: Vec<usize> = if on && !self.axial_free {
-            ring_mirror(&self.base.mesh, &self.rings)
-                .filter(|p| p.iter().enumerate().all(|(q, &r)| p[r] == q))
-                .unwrap_or_else(|| (0..self.rings.len()).collect())
-        } else {
-            (0..self.rings.len()).collect()
-        };
+    /// Stops using the mirror symmetry of the set-up (the default when the set-up is
+    /// mirror-symmetric), for checks; `on` only keeps it.
+    #[cfg(test)]
+    fn set_mirror_reduction(&mut self, on: bool) {
+        let mirror =
+            if on && !self.axial_free { mirror_maps(&self.base.mesh, &self.rings) } else { None };
+        if mirror.is_none() {
+            let plain = self.tables.get_mut().without_mirror();
+            *self.tables.get_mut() = plain;
+        }
+        let partner: Vec<usize> =
+            mirror.map_or_else(|| (0..self.rings.len()).collect(), |(p, _)| p);
         self.reps = representatives(&self.rings, &partner);
         self.ring_partner = partner;
         let nh = self.reps.len();
@@ -627,11 +637,14 @@ impl MovingNetwork {
         tables.ensure(&geo.ring_radius);
         ws.set_rows(tables.rank());
         ws.projected = true;
-        // Mirror symmetry without axial output: only the combined columns of the
-        // representatives are needed (half the series).
-        ws.reduced = !axial && self.reps.len() < self.rings.iter().map(|r| r.filaments.len()).sum();
+        // Mirror symmetry: only the combined columns of the representatives (the tables hold
+        // nothing else for a paired ring).
+        ws.reduced = self.reps.len() < self.rings.iter().map(|r| r.filaments.len()).sum();
         if ws.reduced {
             tables.fill_reduced(&geo.ring_radius, &mut ws.cr, &mut ws.dcr);
+            if coil_factors {
+                tables.fill_reduced_outputs(&geo.ring_radius, &mut ws.czr, &mut ws.far);
+            }
             return;
         }
         let Workspace { c, dc, cz, dcz, fa, .. } = ws;
@@ -660,14 +673,11 @@ impl MovingNetwork {
         for (a, ra) in reps.iter().enumerate() {
             let k = ra.k;
             let dz = mesh.filaments[w0 + k].dz;
-            let mut own = inductance::ring_rectangular(wr[k], wdr[k], dz);
-            let mut own_r = 0.5 * inductance::ring_rectangular_dradius(wr[k], wdr[k], dz);
-            // ∂L_kk/∂(dr) at fixed radius, by a central difference of the GMD formula (the
-            // step 1e-5 relative keeps its error near 1e-10, far below the solver tolerance).
-            let e = 1e-5 * wdr[k];
-            let self_dr = (inductance::ring_rectangular(wr[k], wdr[k] + e, dz)
-                - inductance::ring_rectangular(wr[k], wdr[k] - e, dz))
-                / (2.0 * e);
+            // L_kk, ∂L_kk/∂r_k and ∂L_kk/∂(dr) at fixed radius, from one GMD.
+            let (l_kk, dl_da, self_dr) =
+                inductance::ring_rectangular_with_slopes(wr[k], wdr[k], dz);
+            let mut own = l_kk;
+            let mut own_r = 0.5 * dl_da;
             ws.self_dr[k] = self_dr;
             if let Some(kp) = ra.partner {
                 ws.self_dr[kp] = self_dr;
@@ -873,7 +883,22 @@ impl MovingNetwork {
             }
         }
         let axial = self.axial_free || full;
-        let f_axial = if axial { Some(ws.cz.tr_mul(&xi_u)) } else { None };
+        let f_axial = if !axial {
+            None
+        } else if ws.reduced {
+            // Own ∂G_k/∂z · ξ of each representative; its partner's is the negative.
+            let f_rep = ws.czr.tr_mul(&xi_u);
+            let mut f = DVector::zeros(nw);
+            for (a, ra) in self.reps.iter().enumerate() {
+                f[ra.k] = f_rep[a];
+                if let Some(kp) = ra.partner {
+                    f[kp] = -f_rep[a];
+                }
+            }
+            Some(f)
+        } else {
+            Some(ws.cz.tr_mul(&xi_u))
+        };
         let mut ring_force = vec![0.0; nr];
         let mut ring_lorentz = vec![0.0; nr];
         let mut ring_axial_force = vec![0.0; nr];
@@ -908,7 +933,11 @@ impl MovingNetwork {
         let mut turn_force = vec![0.0; mesh.turns];
         if full {
             let i_c = i_f.rows(0, w0).into_owned();
-            let fc = &self.grad_r_cc * &i_c + &ws.fa * &x_w;
+            let fc = if ws.reduced {
+                &self.grad_r_cc * &i_c + &ws.far * &x_rep
+            } else {
+                &self.grad_r_cc * &i_c + &ws.fa * &x_w
+            };
             for (f, fil) in mesh.filaments[..w0].iter().enumerate() {
                 if let Part::Coil { turn } = fil.part {
                     turn_force[turn] += i_c[f] * fc[f];
@@ -970,6 +999,7 @@ impl Workspace {
         self.c = DMatrix::zeros(rows, nw);
         self.cr = DMatrix::zeros(rows, nh);
         self.dcr = DMatrix::zeros(rows, nh);
+        self.czr = DMatrix::zeros(rows, nh);
         self.ct = DMatrix::zeros(nh, rows);
         self.dc = DMatrix::zeros(rows, nw);
         self.cz = DMatrix::zeros(rows, nw);
@@ -994,21 +1024,22 @@ fn representatives(rings: &[Ring], ring_partner: &[usize]) -> Vec<Rep> {
     reps
 }
 
-/// The mirror partner of every ring of a mirror-symmetric set-up (about the middle plane of
-/// the coil, as in [`mirror_symmetric`]): the ring of the same radius, wall, length and
-/// layers at the reflected axial position, itself for a ring on the plane; `None` when some
-/// ring has no partner.
-fn ring_mirror(mesh: &Mesh, rings: &[Ring]) -> Option<Vec<usize>> {
+/// The mirror maps of a mirror-symmetric set-up (about the middle plane of the coil, as in
+/// [`mirror_symmetric`]): the partner of every ring (the ring of the same radius, wall,
+/// length and layers at the reflected axial position; itself on the plane) and the image of
+/// every coil filament (same radius and section, reflected position). `None` when some ring
+/// or coil filament has none, or the maps are not involutions.
+fn mirror_maps(mesh: &Mesh, rings: &[Ring]) -> Option<(Vec<usize>, Vec<usize>)> {
     let coil: Vec<&crate::mesh::Filament> =
         mesh.filaments.iter().filter(|x| matches!(x.part, Part::Coil { .. })).collect();
-    if coil.is_empty() {
+    if coil.is_empty() || coil.len() != mesh.workpiece_start() {
         return None;
     }
     let zc = coil.iter().map(|x| x.z).sum::<f64>() / coil.len() as f64;
-    let scale = rings.iter().fold(0.0f64, |m, r| m.max(r.r0 + r.h0).max((r.z0 - zc).abs()));
+    let scale = mesh.filaments.iter().fold(0.0f64, |m, f| m.max(f.r + f.dr).max((f.z - zc).abs()));
     let tol = 1e-9 * scale;
     let same = |u: f64, v: f64| (u - v).abs() <= tol;
-    rings
+    let partner: Option<Vec<usize>> = rings
         .iter()
         .map(|ring| {
             rings.iter().position(|other| {
@@ -1019,7 +1050,20 @@ fn ring_mirror(mesh: &Mesh, rings: &[Ring]) -> Option<Vec<usize>> {
                     && other.filaments.len() == ring.filaments.len()
             })
         })
-        .collect()
+        .collect();
+    let image: Option<Vec<usize>> = coil
+        .iter()
+        .map(|f| {
+            coil.iter().position(|g| {
+                same(g.z - zc, zc - f.z) && same(g.r, f.r) && same(g.dr, f.dr) && same(g.dz, f.dz)
+            })
+        })
+        .collect();
+    let involution = |m: &[usize]| m.iter().enumerate().all(|(i, &j)| m[j] == i);
+    match (partner, image) {
+        (Some(p), Some(c)) if involution(&p) && involution(&c) => Some((p, c)),
+        _ => None,
+    }
 }
 
 /// True when the coil and workpiece filaments are mirror images of themselves about one
@@ -1678,6 +1722,9 @@ mod tests {
         // the basis is a real compression (283 coil loops).
         case.discretization.mode =
             ringpulse_case::Resolution::SkinDepth { cell_over_skin_depth: 1.0 };
+        // Off the coil's middle plane, so that no mirror pairing applies and the tables hold
+        // every filament's own column.
+        case.workpiece.as_mut().unwrap().z_center = 1e-3;
         let tol = 1e-9;
         let net = network(&case, tol);
         let lay = net.layout();
@@ -1691,9 +1738,7 @@ mod tests {
         }
         let geo = net.geometry(&y, &ms).unwrap();
         let mut ws = net.ws.borrow_mut();
-        // With the coil's own forces asked for, the tables fill every filament's column (the
-        // profile is not mirror-symmetric, so the reduced columns would not apply).
-        net.coupling(&geo, &mut ws, true);
+        net.coupling(&geo, &mut ws, false);
         assert!(ws.projected && !ws.reduced);
         let rank = ws.c.nrows();
         assert!(rank > 10 && rank < net.n_coil_loops, "basis of {rank} vectors");

@@ -608,8 +608,19 @@ impl CouplingTables {
     /// partner at the same radius), one column per representative filament of `c` with
     /// (G_k + G_k')/√2 and of `dc` with its derivative against the ring's radius (G_k and
     /// ∂G_k/∂r_q for a ring on the plane). The matrices need [`CouplingTables::rank`] rows.
-    pub fn fill_reduced(&self, radii: &[f64], c: &mut DMatrix<f64>, dc: &mut DMatrix<f64>) {
+    /// Columns a with `keep[a]` are left as they are (the caller knows they hold the values
+    /// for these radii).
+    pub fn fill_reduced(
+        &self,
+        radii: &[f64],
+        c: &mut DMatrix<f64>,
+        dc: &mut DMatrix<f64>,
+        keep: Option<&[bool]>,
+    ) {
         self.each_rep(radii, |a, win, j, x| {
+            if keep.is_some_and(|k| k.get(a).copied().unwrap_or(false)) {
+                return;
+            }
             let scale = 2.0 / (win.hi - win.lo);
             let (t, d) = chebyshev(x);
             let coef = if win.cs.is_empty() { &win.c[j] } else { &win.cs[j] };

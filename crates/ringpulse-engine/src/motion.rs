@@ -205,6 +205,17 @@ struct Workspace {
     s: DMatrix<f64>,
     /// ∂L_kk/∂(dr) of each workpiece cell at fixed radius, in H/m.
     self_dr: Vec<f64>,
+    /// Workpiece filament radii and axial positions of the last evaluation that built the
+    /// workpiece block, in metres (NaN: none yet).
+    prev_wr: Vec<f64>,
+    prev_wz: Vec<f64>,
+    /// Per representative: its filaments (and partner's) sit exactly where they sat at that
+    /// evaluation (a ring held at the stop), so its entries of `d`, `gd`, `self_dr` and of
+    /// the tables' columns are still valid.
+    same: Vec<bool>,
+    /// (basis size, windows built) when `cr` and `dcr` were last filled from the tables;
+    /// `None` after another path wrote them.
+    cr_stamp: Option<(usize, usize)>,
     /// ∂M_jk/∂a_j, coil filament j against workpiece filament k, n_c × n_w, in H/m.
     fa: DMatrix<f64>,
 }
@@ -422,6 +433,10 @@ impl MovingNetwork {
             gd: DMatrix::zeros(nh, nh),
             s: DMatrix::zeros(nh, nh),
             self_dr: vec![0.0; nw],
+            prev_wr: vec![f64::NAN; nw],
+            prev_wz: vec![f64::NAN; nw],
+            same: vec![false; nh],
+            cr_stamp: None,
             fa: DMatrix::zeros(w0, nw),
         };
         Ok(MovingNetwork {
@@ -478,6 +493,10 @@ impl MovingNetwork {
         ws.d = DMatrix::zeros(nh, nh);
         ws.gd = DMatrix::zeros(nh, nh);
         ws.s = DMatrix::zeros(nh, nh);
+        ws.same = vec![false; nh];
+        ws.prev_wr.fill(f64::NAN);
+        ws.prev_wz.fill(f64::NAN);
+        ws.cr_stamp = None;
     }
 
     /// Whether the rigid axial motion is integrated (false for a mirror-symmetric set-up,
@@ -618,6 +637,7 @@ impl MovingNetwork {
         ws.set_rows(self.n_coil_loops);
         ws.projected = false;
         ws.reduced = false;
+        ws.cr_stamp = None;
         ws.c.gemm(1.0, &self.g0, &ws.m, 0.0);
         ws.dc.gemm(1.0, &self.g0, &ws.mr, 0.0);
         ws.cz.gemm(1.0, &self.g0, &ws.mz, 0.0);
@@ -641,12 +661,16 @@ impl MovingNetwork {
         // nothing else for a paired ring).
         ws.reduced = self.reps.len() < self.rings.iter().map(|r| r.filaments.len()).sum();
         if ws.reduced {
-            tables.fill_reduced(&geo.ring_radius, &mut ws.cr, &mut ws.dcr);
+            let stamp = (tables.rank(), tables.windows_built());
+            let keep = if ws.cr_stamp == Some(stamp) { Some(ws.same.as_slice()) } else { None };
+            tables.fill_reduced(&geo.ring_radius, &mut ws.cr, &mut ws.dcr, keep);
+            ws.cr_stamp = Some(stamp);
             if coil_factors {
                 tables.fill_reduced_outputs(&geo.ring_radius, &mut ws.czr, &mut ws.far);
             }
             return;
         }
+        ws.cr_stamp = None;
         let Workspace { c, dc, cz, dcz, fa, .. } = ws;
         let axial_out = if axial { Some((&mut *cz, &mut *dcz)) } else { None };
         tables.fill(&geo.ring_radius, c, dc, axial_out);
@@ -673,21 +697,28 @@ impl MovingNetwork {
         for (a, ra) in reps.iter().enumerate() {
             let k = ra.k;
             let dz = mesh.filaments[w0 + k].dz;
-            // L_kk, ∂L_kk/∂r_k and ∂L_kk/∂(dr) at fixed radius, from one GMD.
-            let (l_kk, dl_da, self_dr) =
-                inductance::ring_rectangular_with_slopes(wr[k], wdr[k], dz);
-            let mut own = l_kk;
-            let mut own_r = 0.5 * dl_da;
-            ws.self_dr[k] = self_dr;
-            if let Some(kp) = ra.partner {
-                ws.self_dr[kp] = self_dr;
-                let g = filament::mutual_inductance_with_gradient(wr[k], wr[kp], wz[kp] - wz[k]);
-                own += g.m;
-                own_r += g.dm_da;
+            let same_a = ws.same[a];
+            if !same_a {
+                // L_kk, ∂L_kk/∂r_k and ∂L_kk/∂(dr) at fixed radius, from one GMD.
+                let (l_kk, dl_da, self_dr) =
+                    inductance::ring_rectangular_with_slopes(wr[k], wdr[k], dz);
+                let mut own = l_kk;
+                let mut own_r = 0.5 * dl_da;
+                ws.self_dr[k] = self_dr;
+                if let Some(kp) = ra.partner {
+                    ws.self_dr[kp] = self_dr;
+                    let g =
+                        filament::mutual_inductance_with_gradient(wr[k], wr[kp], wz[kp] - wz[k]);
+                    own += g.m;
+                    own_r += g.dm_da;
+                }
+                ws.d[(a, a)] = own;
+                ws.gd[(a, a)] = own_r;
             }
-            ws.d[(a, a)] = own;
-            ws.gd[(a, a)] = own_r;
             for (b, rb) in reps.iter().enumerate().skip(a + 1) {
+                if same_a && ws.same[b] {
+                    continue;
+                }
                 let l = rb.k;
                 let g = filament::mutual_inductance_with_gradient(wr[k], wr[l], wz[l] - wz[k]);
                 // Sums over the filaments of each representative: row a against b's group
@@ -733,8 +764,16 @@ impl MovingNetwork {
         let geo = self.geometry(y, ms)?;
         let mut ws_guard = self.ws.borrow_mut();
         let ws = &mut *ws_guard;
+        // Which representatives have not moved since the last evaluation (exact equality: a
+        // held ring's radius is constant); their block entries and columns are reused.
+        for (a, ra) in self.reps.iter().enumerate() {
+            let still = |k: usize| geo.wr[k] == ws.prev_wr[k] && geo.wz[k] == ws.prev_wz[k];
+            ws.same[a] = still(ra.k) && ra.partner.is_none_or(still);
+        }
         self.coupling(&geo, ws, full);
         self.workpiece_block(&geo, ws);
+        ws.prev_wr.copy_from_slice(&geo.wr);
+        ws.prev_wz.copy_from_slice(&geo.wz);
         self.evaluate_with(y, scales, ms, branches, &geo, ws, full)
     }
 

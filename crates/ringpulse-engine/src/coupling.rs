@@ -316,7 +316,9 @@ impl CouplingTables {
         let mut r = data.clone();
         if self.basis.ncols() > 0 {
             for _ in 0..2 {
-                let coef = self.basis.tr_mul(&r);
+                // Uᵀ r as a plain product with the transpose (nalgebra's tr_mul takes one dot
+                // product per entry, several times slower for these sizes).
+                let coef = self.basis.transpose() * &r;
                 r.gemm(-1.0, &self.basis, &coef, 1.0);
             }
         }
@@ -351,7 +353,7 @@ impl CouplingTables {
                 break;
             }
             let block = DMatrix::from_columns(&added);
-            let coef = block.tr_mul(&r);
+            let coef = block.transpose() * &r;
             r.gemm(-1.0, &block, &coef, 1.0);
             let old = std::mem::replace(&mut self.basis, DMatrix::zeros(0, 0));
             let mut cols: Vec<DVector<f64>> = old.column_iter().map(|c| c.into_owned()).collect();
@@ -451,15 +453,16 @@ impl CouplingTables {
         data.columns_mut(count, count).copy_from(&(data_z * self.z_weight));
         data.columns_mut(2 * count, count_s).copy_from(&data_s);
         self.absorb(&data);
+        let ut = self.basis.transpose();
         windows
             .into_iter()
             .map(|w| Window {
                 lo: w.lo,
                 hi: w.hi,
-                c: w.c.iter().map(|c| self.basis.tr_mul(c)).collect(),
-                cz: w.cz.iter().map(|c| self.basis.tr_mul(c)).collect(),
+                c: w.c.iter().map(|c| &ut * c).collect(),
+                cz: w.cz.iter().map(|c| &ut * c).collect(),
                 fa: w.fa,
-                cs: w.cs.iter().map(|c| self.basis.tr_mul(c)).collect(),
+                cs: w.cs.iter().map(|c| &ut * c).collect(),
                 fas: w.fas,
             })
             .collect()

@@ -122,6 +122,9 @@ pub struct CouplingTables {
     built: usize,
     /// Orthonormal basis U of the coupling's span, n_loops × m (m grows as needed).
     basis: DMatrix<f64>,
+    /// With a mirror pairing, the basis Z of the axial factors' span (the windows' ∂C/∂z
+    /// coefficients are in it); without one it stays empty and they are in U.
+    zbasis: DMatrix<f64>,
     /// Largest column norm of the C data seen, and the factor that brings ∂C/∂z data to the
     /// same size (set by the first batch), for the basis threshold.
     norm_ref: f64,
@@ -200,6 +203,62 @@ fn series(
     }
 }
 
+/// Extends the basis until every column of `data` (n_loops × N) lies in its span to
+/// within `threshold`: greedy, in blocks of the columns with the
+/// largest residuals, orthonormalised twice by modified Gram–Schmidt (deterministic).
+fn absorb(basis: &mut DMatrix<f64>, data: &DMatrix<f64>, threshold: f64) {
+    let n = basis.nrows();
+    let mut r = data.clone();
+    if basis.ncols() > 0 {
+        for _ in 0..2 {
+            // Uᵀ r as a plain product with the transpose (nalgebra's tr_mul takes one dot
+            // product per entry, several times slower for these sizes).
+            let coef = basis.transpose() * &r;
+            r.gemm(-1.0, basis, &coef, 1.0);
+        }
+    }
+    loop {
+        let norms: Vec<f64> = r.column_iter().map(|c| c.norm()).collect();
+        let mut order: Vec<usize> = (0..norms.len()).filter(|&j| norms[j] > threshold).collect();
+        if order.is_empty() || basis.ncols() >= n {
+            break;
+        }
+        order.sort_by(|&a, &b| norms[b].total_cmp(&norms[a]).then(a.cmp(&b)));
+        order.truncate(16);
+        let mut added: Vec<DVector<f64>> = Vec::new();
+        for &j in &order {
+            let mut v = r.column(j).into_owned();
+            for _ in 0..2 {
+                for u in basis.column_iter() {
+                    let d = u.dot(&v);
+                    v.axpy(-d, &u, 1.0);
+                }
+                for u in &added {
+                    let d = u.dot(&v);
+                    v.axpy(-d, u, 1.0);
+                }
+            }
+            let norm = v.norm();
+            if norm > threshold {
+                added.push(v / norm);
+            }
+        }
+        if added.is_empty() {
+            break;
+        }
+        let block = DMatrix::from_columns(&added);
+        let coef = block.transpose() * &r;
+        r.gemm(-1.0, &block, &coef, 1.0);
+        let old = std::mem::replace(basis, DMatrix::zeros(0, 0));
+        let mut cols: Vec<DVector<f64>> = old.column_iter().map(|c| c.into_owned()).collect();
+        cols.extend(added);
+        *basis = DMatrix::from_columns(&cols);
+        if basis.ncols() == 0 {
+            *basis = DMatrix::zeros(n, 0);
+        }
+    }
+}
+
 /// Column k of a column-major matrix as a slice.
 fn column_mut(m: &mut DMatrix<f64>, k: usize) -> &mut [f64] {
     let n = m.nrows();
@@ -265,11 +324,13 @@ impl CouplingTables {
             tolerance,
             built: 0,
             basis: DMatrix::zeros(0, 0),
+            zbasis: DMatrix::zeros(0, 0),
             norm_ref: 0.0,
             z_weight: 0.0,
         };
         let ncl = tables.g0.nrows();
         tables.basis = DMatrix::zeros(ncl, 0);
+        tables.zbasis = DMatrix::zeros(ncl, 0);
         let radii: Vec<f64> = tables.rings.iter().map(|r| r.r0).collect();
         tables.ensure(&radii);
         tables
@@ -307,62 +368,10 @@ impl CouplingTables {
         self.basis.ncols()
     }
 
-    /// Extends the basis until every column of `data` (n_loops × N) lies in its span to
-    /// within `tolerance` times the reference norm: greedy, in blocks of the columns with the
-    /// largest residuals, orthonormalised twice by modified Gram–Schmidt (deterministic).
-    fn absorb(&mut self, data: &DMatrix<f64>) {
-        let n = self.basis.nrows();
-        let threshold = self.tolerance * self.norm_ref;
-        let mut r = data.clone();
-        if self.basis.ncols() > 0 {
-            for _ in 0..2 {
-                // Uᵀ r as a plain product with the transpose (nalgebra's tr_mul takes one dot
-                // product per entry, several times slower for these sizes).
-                let coef = self.basis.transpose() * &r;
-                r.gemm(-1.0, &self.basis, &coef, 1.0);
-            }
-        }
-        loop {
-            let norms: Vec<f64> = r.column_iter().map(|c| c.norm()).collect();
-            let mut order: Vec<usize> =
-                (0..norms.len()).filter(|&j| norms[j] > threshold).collect();
-            if order.is_empty() || self.basis.ncols() >= n {
-                break;
-            }
-            order.sort_by(|&a, &b| norms[b].total_cmp(&norms[a]).then(a.cmp(&b)));
-            order.truncate(16);
-            let mut added: Vec<DVector<f64>> = Vec::new();
-            for &j in &order {
-                let mut v = r.column(j).into_owned();
-                for _ in 0..2 {
-                    for u in self.basis.column_iter() {
-                        let d = u.dot(&v);
-                        v.axpy(-d, &u, 1.0);
-                    }
-                    for u in &added {
-                        let d = u.dot(&v);
-                        v.axpy(-d, u, 1.0);
-                    }
-                }
-                let norm = v.norm();
-                if norm > threshold {
-                    added.push(v / norm);
-                }
-            }
-            if added.is_empty() {
-                break;
-            }
-            let block = DMatrix::from_columns(&added);
-            let coef = block.transpose() * &r;
-            r.gemm(-1.0, &block, &coef, 1.0);
-            let old = std::mem::replace(&mut self.basis, DMatrix::zeros(0, 0));
-            let mut cols: Vec<DVector<f64>> = old.column_iter().map(|c| c.into_owned()).collect();
-            cols.extend(added);
-            self.basis = DMatrix::from_columns(&cols);
-            if self.basis.ncols() == 0 {
-                self.basis = DMatrix::zeros(n, 0);
-            }
-        }
+    /// The basis Z of the axial factors with a mirror pairing (n_loops × m_z; empty
+    /// without one): the columns of [`CouplingTables::fill_reduced_outputs`]'s `cz` are in it.
+    pub fn zbasis(&self) -> &DMatrix<f64> {
+        &self.zbasis
     }
 
     /// The window of ring q that covers radius r (windows are sorted and do not overlap, so a
@@ -448,11 +457,27 @@ impl CouplingTables {
             let nz = max_norm(&data_z);
             self.z_weight = if nz > 0.0 { self.norm_ref / nz } else { 0.0 };
         }
-        let mut data = DMatrix::<f64>::zeros(n, 2 * count + count_s);
-        data.columns_mut(0, count).copy_from(&data_c);
-        data.columns_mut(count, count).copy_from(&(data_z * self.z_weight));
-        data.columns_mut(2 * count, count_s).copy_from(&data_s);
-        self.absorb(&data);
+        let mirrored = self.partner.iter().enumerate().any(|(q, &p)| p != q);
+        let threshold = self.tolerance * self.norm_ref;
+        let uz = if mirrored {
+            // The right-hand side needs only the combined columns; the axial factors (own
+            // ∂C_k/∂z, for the reported axial forces) get a basis of their own, so that they
+            // do not widen the one every evaluation streams through (49 against 106
+            // directions on the expansion demo).
+            let mut data = DMatrix::<f64>::zeros(n, count + count_s);
+            data.columns_mut(0, count).copy_from(&data_c);
+            data.columns_mut(count, count_s).copy_from(&data_s);
+            absorb(&mut self.basis, &data, threshold);
+            absorb(&mut self.zbasis, &(data_z * self.z_weight), threshold);
+            self.zbasis.transpose()
+        } else {
+            let mut data = DMatrix::<f64>::zeros(n, 2 * count + count_s);
+            data.columns_mut(0, count).copy_from(&data_c);
+            data.columns_mut(count, count).copy_from(&(data_z * self.z_weight));
+            data.columns_mut(2 * count, count_s).copy_from(&data_s);
+            absorb(&mut self.basis, &data, threshold);
+            self.basis.transpose()
+        };
         let ut = self.basis.transpose();
         windows
             .into_iter()
@@ -460,7 +485,7 @@ impl CouplingTables {
                 lo: w.lo,
                 hi: w.hi,
                 c: w.c.iter().map(|c| &ut * c).collect(),
-                cz: w.cz.iter().map(|c| &ut * c).collect(),
+                cz: w.cz.iter().map(|c| &uz * c).collect(),
                 fa: w.fa,
                 cs: w.cs.iter().map(|c| &ut * c).collect(),
                 fas: w.fas,
@@ -632,7 +657,8 @@ impl CouplingTables {
     }
 
     /// The outputs of a mirror-symmetric workpiece beyond the right-hand side, one column per
-    /// representative filament k: in `cz` its own ∂G_k/∂z (the partner's is its negative),
+    /// representative filament k: in `cz` (as many rows as [`CouplingTables::zbasis`] has
+    /// columns) its own Zᵀ ∂C_k/∂z (the partner's is its negative),
     /// and in `fa` (n_coil rows) ∂M_jk/∂a_j + ∂M_jk'/∂a_j over the pair (the coil's radial
     /// force factor against the pair's common current; its own for a ring on the plane).
     pub fn fill_reduced_outputs(

@@ -352,9 +352,6 @@ pub fn run_motion_with_progress(
             ),
         });
     }
-    if std::env::var_os("RP_TRACE").is_some() {
-        eprintln!("windows {} rank {}", net.table_windows(), net.table_rank());
-    }
     let t_stop = segments.last().map_or(0.0, |s| s.t_end);
     let segment_at = |s: f64| -> &MotionSegment {
         segments.iter().find(|seg| s <= seg.t_end).unwrap_or_else(|| &segments[segments.len() - 1])

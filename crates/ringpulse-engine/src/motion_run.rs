@@ -14,7 +14,7 @@ use crate::motion::{
 };
 use crate::results::*;
 use crate::run::{argmax_abs, collect_warnings, max_abs, Prepared};
-use crate::transient::{bisect_zero, golden_max, slot, Circuit, Scales, StepperSettings};
+use crate::transient::{golden_max, illinois_zero, slot, Circuit, Scales, StepperSettings};
 use crate::EngineError;
 
 /// Options of a motion run.
@@ -254,22 +254,22 @@ pub fn run_motion_with_progress(
             .iter()
             .map(|&event| {
                 let t_e = match event {
-                    Event::Crowbar => bisect_zero(ta, tb, |s| seg.state(s)[nl + slot::V]),
-                    Event::Stop(q) => {
-                        bisect_zero(ta, tb, |s| net.stop_gap(q, &seg.state(s), &ms).unwrap_or(0.0))
-                    }
-                    Event::CoilContact(q) => {
-                        bisect_zero(ta, tb, |s| net.coil_gap(q, &seg.state(s), &ms).unwrap_or(0.0))
-                    }
+                    Event::Crowbar => illinois_zero(ta, tb, |s| seg.state(s)[nl + slot::V]),
+                    Event::Stop(q) => illinois_zero(ta, tb, |s| {
+                        net.stop_gap(q, &seg.state(s), &ms).unwrap_or(0.0)
+                    }),
+                    Event::CoilContact(q) => illinois_zero(ta, tb, |s| {
+                        net.coil_gap(q, &seg.state(s), &ms).unwrap_or(0.0)
+                    }),
                     Event::ThickWall(q) => {
-                        bisect_zero(ta, tb, |s| net.wall_margin(q, &seg.state(s), &ms))
+                        illinois_zero(ta, tb, |s| net.wall_margin(q, &seg.state(s), &ms))
                     }
-                    Event::Yield(q) => bisect_zero(ta, tb, |s| {
+                    Event::Yield(q) => illinois_zero(ta, tb, |s| {
                         net.yield_excess(q, &seg.state(s), &ms) - settings.rel_tol
                     }),
                     Event::Unload(q) => {
                         let branch = seg.flags.branch[q];
-                        bisect_zero(ta, tb, |s| net.flow_speed(q, branch, &seg.state(s), &ms))
+                        illinois_zero(ta, tb, |s| net.flow_speed(q, branch, &seg.state(s), &ms))
                     }
                 };
                 (event, t_e)
@@ -496,7 +496,7 @@ pub fn run_motion_with_progress(
         let s0 = if i[from] >= 0.0 { 1.0 } else { -1.0 };
         (from + 1..ns)
             .find(|&k| s0 * i[k] <= 0.0)
-            .map(|k| (k, bisect_zero(tt[k - 1], tt[k], |s| s0 * coil_current_at(s))))
+            .map(|k| (k, illinois_zero(tt[k - 1], tt[k], |s| s0 * coil_current_at(s))))
     };
     let first_zero = zero_after(k_peak);
     let second_zero = first_zero.and_then(|(k, _)| zero_after(k));

@@ -15,7 +15,7 @@ use crate::mesh::{build_mesh, coarse_tube_split, plan_splits, Arrangement, Part,
 use crate::network::{invert_spd, Network};
 use crate::results::*;
 use crate::transient::{
-    bisect_zero, golden_max, integrate_segment, slot, Circuit, Rhs, Scales, Segment,
+    bisect_zero, golden_max, illinois_zero, integrate_segment, slot, Circuit, Rhs, Scales, Segment,
     StepperSettings,
 };
 use crate::EngineError;
@@ -564,7 +564,7 @@ pub fn run_with_probes(
         let s0 = if i[from] >= 0.0 { 1.0 } else { -1.0 };
         (from + 1..n_samples)
             .find(|&k| s0 * i[k] <= 0.0)
-            .map(|k| (k, bisect_zero(tt[k - 1], tt[k], |t| s0 * coil_current_at(t))))
+            .map(|k| (k, illinois_zero(tt[k - 1], tt[k], |t| s0 * coil_current_at(t))))
     };
     let first_zero = zero_after(k_peak);
     let second_zero = first_zero.and_then(|(k, _)| zero_after(k));

@@ -360,6 +360,69 @@ pub fn bisect_zero(mut a: f64, mut b: f64, f: impl Fn(f64) -> f64) -> f64 {
     0.5 * (a + b)
 }
 
+/// A zero of `f` in `[a, b]`, where f(a) and f(b) have opposite signs, by the Illinois
+/// variant of regula falsi (M. Dowell and P. Jarratt, BIT 11 (1971) 168–174): the bracket
+/// is kept, and the retained end's value is halved when the same end is kept twice, which
+/// makes the convergence superlinear (order about 1.44). It ends when the estimate moves by
+/// less than 1e-14 of its size or the bracket is that narrow, in about ten evaluations
+/// where bisection to the same width takes forty-five. Without a sign change (or with a
+/// non-finite value) it falls back to [`bisect_zero`].
+pub fn illinois_zero(mut a: f64, mut b: f64, f: impl Fn(f64) -> f64) -> f64 {
+    let mut fa = f(a);
+    let mut fb = f(b);
+    if fa == 0.0 {
+        return a;
+    }
+    if fb == 0.0 {
+        return b;
+    }
+    if !(fa.is_finite() && fb.is_finite()) || (fa > 0.0) == (fb > 0.0) {
+        return bisect_zero(a, b, f);
+    }
+    let mut kept = 0i8;
+    // (NaN: no previous estimate to compare with)
+    let mut c = f64::NAN;
+    for _ in 0..200 {
+        let tol = 1e-14 * a.abs().max(b.abs()).max(1e-300);
+        if b - a <= tol {
+            break;
+        }
+        let mut next = (a * fb - b * fa) / (fb - fa);
+        if !(next > a && next < b) {
+            next = 0.5 * (a + b);
+        }
+        let moved = (next - c).abs();
+        c = next;
+        let fc = f(c);
+        if fc == 0.0 || !fc.is_finite() {
+            break;
+        }
+        if (fc > 0.0) == (fb > 0.0) {
+            b = c;
+            fb = fc;
+            if kept == -1 {
+                fa *= 0.5;
+            }
+            kept = -1;
+        } else {
+            a = c;
+            fa = fc;
+            if kept == 1 {
+                fb *= 0.5;
+            }
+            kept = 1;
+        }
+        if moved <= tol {
+            break;
+        }
+    }
+    if c.is_nan() {
+        0.5 * (a + b)
+    } else {
+        c
+    }
+}
+
 /// Maximises a scalar function of time inside `[a, b]` by golden-section search (the function
 /// is assumed unimodal there, as around a sampled peak). Returns (t, f(t)).
 pub fn golden_max(mut a: f64, mut b: f64, f: impl Fn(f64) -> f64) -> (f64, f64) {
@@ -369,7 +432,10 @@ pub fn golden_max(mut a: f64, mut b: f64, f: impl Fn(f64) -> f64) -> (f64, f64) 
     let mut fc = f(c);
     let mut fd = f(d);
     for _ in 0..200 {
-        if (b - a) <= 1e-13 * b.abs().max(1e-300) {
+        // Near a maximum f changes by ½ f'' δt², so its position is defined only to about
+        // √ε relative; a bracket of 1e-9 relative leaves the peak value exact to rounding
+        // (a narrower one only costs evaluations: each is a full network solve).
+        if (b - a) <= 1e-9 * b.abs().max(1e-300) {
             break;
         }
         if fc > fd {
@@ -388,4 +454,43 @@ pub fn golden_max(mut a: f64, mut b: f64, f: impl Fn(f64) -> f64) -> (f64, f64) 
     }
     let t = 0.5 * (a + b);
     (t, f(t))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::cell::Cell;
+
+    /// The Illinois method finds known roots to the bisection's accuracy in far fewer
+    /// evaluations: cos t at π/2, a triple root (where plain regula falsi stalls), a
+    /// nearly discontinuous tanh, and a root at a bracket end.
+    #[test]
+    fn illinois_finds_known_roots() {
+        let count = Cell::new(0);
+        let count = &count;
+        let counted = |f: fn(f64) -> f64| {
+            move |t: f64| {
+                count.set(count.get() + 1);
+                f(t)
+            }
+        };
+        let r = illinois_zero(1.0, 2.0, counted(|t: f64| t.cos()));
+        assert!((r - std::f64::consts::FRAC_PI_2).abs() < 1e-14, "{r}");
+        assert!(count.get() < 15, "{} evaluations", count.get());
+        let b = bisect_zero(1.0, 2.0, |t: f64| t.cos());
+        assert!((b - r).abs() < 1e-13);
+        count.set(0);
+        let r = illinois_zero(0.0, 1.0, counted(|t: f64| -(t - 0.3).powi(3)));
+        // A triple root: f is below 1e-45 within 1e-15 of it, so only the bracket decides.
+        assert!((r - 0.3).abs() < 1e-5, "{r}");
+        assert!(count.get() < 200, "{} evaluations", count.get());
+        let r = illinois_zero(0.0, 1.0, |t: f64| -(1e6 * (t - 0.37)).tanh());
+        assert!((r - 0.37).abs() < 1e-13, "{r}");
+        assert_eq!(illinois_zero(0.0, 2.0, |t: f64| 2.0 - t), 2.0);
+        // No sign change: bisection's answer.
+        assert_eq!(
+            illinois_zero(0.0, 1.0, |t: f64| 1.0 + t),
+            bisect_zero(0.0, 1.0, |t: f64| 1.0 + t)
+        );
+    }
 }

@@ -25,6 +25,24 @@ pub struct JohnsonCook {
     pub melting_temperature: f64,
 }
 
+impl JohnsonCook {
+    /// The rate factor 1 + C ln(|ε̇|/ε̇0), clamped at one below the reference rate.
+    fn rate_term(&self, rate: f64) -> f64 {
+        1.0 + self.c * (rate.abs() / self.reference_rate).max(1.0).ln()
+    }
+
+    /// The thermal factor 1 − T*ᵐ, T* = (T − T_r)/(T_m − T_r) clamped to [0, 1].
+    fn thermal(&self, t: f64) -> f64 {
+        let ts = ((t - self.room_temperature) / (self.melting_temperature - self.room_temperature))
+            .clamp(0.0, 1.0);
+        if ts == 0.0 {
+            1.0
+        } else {
+            1.0 - ts.powf(self.m)
+        }
+    }
+}
+
 /// A flow stress law.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum FlowLaw {
@@ -94,32 +112,41 @@ impl FlowLaw {
     /// Flow stress in Pa at hardening variable `w`, strain-rate magnitude `rate` (1/s) and
     /// temperature `t` (K).
     pub fn flow_stress_w(&self, w: f64, rate: f64, t: f64) -> f64 {
-        self.flow_stress(self.equivalent_strain(w), rate, t)
+        match *self {
+            // A + B εⁿ = A + B w: no round trip through ε = w^(1/n).
+            FlowLaw::JohnsonCook(jc) if jc.n > 0.0 => {
+                (jc.a + jc.b * w.max(0.0)) * jc.rate_term(rate) * jc.thermal(t)
+            }
+            _ => self.flow_stress(self.equivalent_strain(w), rate, t),
+        }
     }
 
-    /// (∂σ_f/∂w, dε̄_p/dw, ∂σ_f/∂|ε̇|) at (w, |ε̇|, T): the hardening slope in w, the
-    /// slope of the strain map, and the rate sensitivity (zero below the reference rate,
-    /// where the Johnson–Cook rate term is clamped).
-    fn slopes(&self, w: f64, rate: f64, t: f64) -> (f64, f64, f64) {
+    /// (∂σ_f/∂w, dε̄_p/dw, ∂σ_f/∂|ε̇|, ∂σ_f/∂T) at (w, |ε̇|, T): the hardening slope in w,
+    /// the slope of the strain map, the rate sensitivity (zero below the reference rate,
+    /// where the Johnson–Cook rate term is clamped) and the thermal softening, the last as a
+    /// forward difference over 0.1 K (the Johnson–Cook T*ᵐ has an infinite slope at room
+    /// temperature for m < 1).
+    fn slopes(&self, w: f64, rate: f64, t: f64) -> (f64, f64, f64, f64) {
         match *self {
-            FlowLaw::Constant { .. } => (0.0, 1.0, 0.0),
+            FlowLaw::Constant { .. } => (0.0, 1.0, 0.0, 0.0),
             FlowLaw::PowerLaw { k, n, eps0 } => {
-                (k * n * (eps0 + w.max(0.0)).powf(n - 1.0), 1.0, 0.0)
+                (k * n * (eps0 + w.max(0.0)).powf(n - 1.0), 1.0, 0.0, 0.0)
             }
             FlowLaw::JohnsonCook(jc) => {
                 let w = w.max(0.0);
-                let eps = self.equivalent_strain(w);
                 let ratio = rate.abs() / jc.reference_rate;
-                let rate_term = 1.0 + jc.c * ratio.max(1.0).ln();
-                let ts = ((t - jc.room_temperature)
-                    / (jc.melting_temperature - jc.room_temperature))
-                    .clamp(0.0, 1.0);
-                let thermal = 1.0 - ts.powf(jc.m);
-                // dε̄/dw = ε̄^(1−n)/n, finite (zero) at the onset.
-                let deps_dw = if jc.n > 0.0 { eps.powf(1.0 - jc.n) / jc.n } else { 0.0 };
-                let d_rate =
-                    if ratio > 1.0 { (jc.a + jc.b * w) * thermal * jc.c / rate.abs() } else { 0.0 };
-                (jc.b * rate_term * thermal, deps_dw, d_rate)
+                let rate_term = jc.rate_term(rate);
+                let thermal = jc.thermal(t);
+                // dε̄/dw = ε̄^(1−n)/n = w^((1−n)/n)/n, finite (zero) at the onset.
+                let deps_dw = if jc.n > 0.0 { w.powf((1.0 - jc.n) / jc.n) / jc.n } else { 0.0 };
+                let hard = if jc.n > 0.0 {
+                    jc.a + jc.b * w
+                } else {
+                    jc.a + jc.b * self.equivalent_strain(w).powf(jc.n)
+                };
+                let d_rate = if ratio > 1.0 { hard * thermal * jc.c / rate.abs() } else { 0.0 };
+                let d_t = hard * rate_term * (jc.thermal(t + 0.1) - thermal) / 0.1;
+                (jc.b * rate_term * thermal, deps_dw, d_rate, d_t)
             }
         }
     }
@@ -275,8 +302,7 @@ pub fn plastic_rates(
     if sign == 0.0 {
         return PlasticRates { strain: 0.0, hardening: 0.0, u: 0.0 };
     }
-    let (dsig_dw, deps_dw, p_rate) = law.slopes(w, rate, t);
-    let p_t = (law.flow_stress_w(w, rate, t + 0.1) - state.flow) / 0.1;
+    let (dsig_dw, deps_dw, p_rate, p_t) = law.slopes(w, rate, t);
     let abs_rate_dot = if rate >= 0.0 { rate_dot } else { -rate_dot };
     let n = e * sign * rate - p_rate * abs_rate_dot - p_t * t_dot;
     let denom = e * deps_dw + dsig_dw;

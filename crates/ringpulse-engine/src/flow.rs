@@ -86,6 +86,30 @@ impl FlowLaw {
 }
 
 impl FlowLaw {
+    /// Duration of the Johnson–Cook yield onset at hoop strain rate `rate` (1/s), temperature
+    /// `t` (K) and Young's modulus `e` (Pa), in seconds; `None` for laws without one.
+    ///
+    /// Just past yield the hardening slope nBε̄ⁿ⁻¹ is far above E and the hardening variable
+    /// grows as dw/dt ≈ E|ε̇|/σ_w (σ_w = ∂σ_f/∂w); the plastic flow takes over where
+    /// E dε̄/dw = σ_w, at w* = (σ_w n/E)^(n/(1−n)), reached after w* σ_w/(E|ε̇|). The stepper
+    /// needs steps of about this size there, so a segment that starts with a yield starts
+    /// with it instead of the step before the event (which would be rejected several times).
+    pub fn onset_time(&self, rate: f64, t: f64, e: f64) -> Option<f64> {
+        match *self {
+            FlowLaw::JohnsonCook(jc) if jc.n > 0.0 && jc.n < 1.0 => {
+                let sigma_w = jc.b * jc.rate_term(rate) * jc.thermal(t);
+                let rate = rate.abs();
+                if !(sigma_w > 0.0 && rate > 0.0 && e > 0.0) {
+                    return None;
+                }
+                let w_star = (sigma_w * jc.n / e).powf(jc.n / (1.0 - jc.n));
+                let tau = w_star * sigma_w / (e * rate);
+                tau.is_finite().then_some(tau)
+            }
+            _ => None,
+        }
+    }
+
     /// The hardening variable w that the motion state carries in place of the equivalent
     /// plastic strain ε̄_p: w = ε̄_pⁿ for Johnson–Cook, w = ε̄_p otherwise.
     ///
@@ -315,6 +339,20 @@ pub fn plastic_rates(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The yield-onset duration by hand for OFHC copper at 1e3 1/s, 294 K, E = 124 GPa:
+    /// σ_w = 292 MPa (1 + 0.025 ln 1e3) = 342.427 MPa, w* = (σ_w 0.31/E)^(0.31/0.69) = 0.041865,
+    /// τ = w* σ_w/(E ε̇) = 115.61 ns; none for the power law and constant stress.
+    #[test]
+    fn onset_time_by_hand() {
+        let law = FlowLaw::JohnsonCook(johnson_cook_set("ofhc_copper").unwrap());
+        let tau = law.onset_time(-1e3, 294.0, 124e9).unwrap();
+        assert!((tau / 115.61e-9 - 1.0).abs() < 1e-4, "{tau}");
+        assert!(law.onset_time(0.0, 294.0, 124e9).is_none());
+        assert!(FlowLaw::Constant { stress: 1e8 }.onset_time(1e3, 294.0, 1e11).is_none());
+        let power = FlowLaw::PowerLaw { k: 5e8, n: 0.3, eps0: 0.01 };
+        assert!(power.onset_time(1e3, 294.0, 1e11).is_none());
+    }
 
     /// Hand evaluation of the Johnson–Cook formula for OFHC copper (Johnson & Cook 1983 set):
     /// (90 + 292·0.1^0.31)(1 + 0.025 ln 1e4)(1 − 0) MPa = (90 + 292·0.48978)·1.23026 = 286.669 MPa.

@@ -1518,6 +1518,12 @@ impl MovingNetwork {
         }
     }
 
+    /// Duration of ring q's yield onset at its state, in seconds ([`FlowLaw::onset_time`]).
+    pub fn onset_time(&self, q: usize, y: &DVector<f64>, ms: &MechScales) -> Option<f64> {
+        let (_, rate, t) = self.ring_kinematics(q, y, ms);
+        self.mech.flow.onset_time(rate, t, self.mech.youngs_modulus)
+    }
+
     /// Radial speed of yielding ring q in the direction of its flow (outward in tension), in
     /// m/s. The ring unloads when it turns: while it still moves that way the consistency
     /// condition gives plastic flow (the strain rate and the rate and thermal softening all

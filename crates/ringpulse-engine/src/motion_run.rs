@@ -281,6 +281,8 @@ pub fn run_motion_with_progress(
         segments.push(seg);
         t = t_e;
         let mut contact = false;
+        // Shortest yield onset among the rings that yield here, in seconds.
+        let mut onset = f64::INFINITY;
         for &(event, t_ev) in &located {
             if t_ev > t_e * (1.0 + 1e-12) + 1e-18 {
                 continue;
@@ -304,6 +306,7 @@ pub fn run_motion_with_progress(
                 Event::Yield(q) => {
                     if !flags.held[q] {
                         flags.branch[q] = net.yield_branch(q, &y, &ms);
+                        onset = onset.min(net.onset_time(q, &y, &ms).unwrap_or(f64::INFINITY));
                     }
                 }
                 Event::Unload(q) => {
@@ -334,6 +337,14 @@ pub fn run_motion_with_progress(
                     contact = true;
                 }
             }
+        }
+        if onset.is_finite() && first_step > 0.0 {
+            // The next segment starts with a step of twice the onset's duration (the segment
+            // uses half the step it is given), not the step before the event, which the onset
+            // transient rejects several times over; but not a thousand times below that step.
+            // (Expansion demo: 2323 evaluations with the step before the event; starting
+            // with 0.5, 1, 2 and 4 onset durations 2353, 2245, 2125 and 2299.)
+            first_step = first_step.min(4.0 * onset).max(1e-3 * first_step);
         }
         if contact {
             break;

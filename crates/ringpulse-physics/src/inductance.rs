@@ -105,28 +105,48 @@ pub fn ring_rectangular_dradius(radius: f64, radial: f64, axial: f64) -> f64 {
 /// ```
 ///
 /// (ln g is homogeneous of degree one in (w, h) up to ln: h ∂/∂h + w ∂/∂w of it is 1, which
-/// the test checks). For p < 1e-3 the terms cancel to O(p) and a central difference of the
-/// GMD is used instead.
+/// the test checks). Below a side ratio of 1e-3 the terms cancel to O(ratio) and a central
+/// difference of the GMD is used instead.
 ///
 /// Inputs and ranges as for [`ring_rectangular`]; `NaN`s for out-of-range input.
 pub fn ring_rectangular_with_slopes(radius: f64, radial: f64, axial: f64) -> (f64, f64, f64) {
     if !section_ok(radius, radial, axial) {
         return (f64::NAN, f64::NAN, f64::NAN);
     }
-    let g = gmd_rectangle(axial, radial);
-    let lead = (8.0 * radius / g).ln();
+    let (big, small) = if axial >= radial { (axial, radial) } else { (radial, axial) };
+    let t = small / big;
+    if t < 1e-3 {
+        // Thin sections: the closed forms below cancel to O(t); the separate functions and a
+        // central difference of the GMD instead.
+        let g = gmd_rectangle(axial, radial);
+        let lead = (8.0 * radius / g).ln();
+        let e = 1e-5 * radial;
+        let h_dlng = radial
+            * (gmd_rectangle(axial, radial + e).ln() - gmd_rectangle(axial, radial - e).ln())
+            / (2.0 * e);
+        return (MU0 * radius * (lead - 2.0), MU0 * (lead - 1.0), -MU0 * radius * h_dlng / radial);
+    }
+    // The GMD and its slope share their transcendental values (t = small/big side):
+    // ln(1 + 1/t²) = ln(1 + t²) − 2 ln t and atan(1/t) = π/2 − atan t.
+    let t2 = t * t;
+    let l1 = t2.ln_1p();
+    let lt = t.ln();
+    let l2 = l1 - 2.0 * lt;
+    let at = t.atan();
+    let ait = std::f64::consts::FRAC_PI_2 - at;
+    // ln g − ln(big), as in `gmd_rectangle`.
+    let rest = 0.5 * l1 - l1 / (12.0 * t2) - t2 / 12.0 * l2 + 2.0 / (3.0 * t) * at
+        + 2.0 * t / 3.0 * ait
+        - 25.0 / 12.0;
+    let lead = (8.0 * radius).ln() - big.ln() - rest;
     let l = MU0 * radius * (lead - 2.0);
     let dl_da = MU0 * (lead - 1.0);
-    let p = radial / axial;
-    let h_dlng = if p >= 1e-3 {
-        let p2 = p * p;
-        0.5 + p2.ln_1p() / (6.0 * p2) - p2 / 6.0 * (1.0 / p2).ln_1p() - 2.0 / (3.0 * p) * p.atan()
-            + 2.0 * p / 3.0 * (1.0 / p).atan()
-    } else {
-        let e = 1e-5 * radial;
-        radial * (gmd_rectangle(axial, radial + e).ln() - gmd_rectangle(axial, radial - e).ln())
-            / (2.0 * e)
-    };
+    // h ∂(ln g)/∂h at p = h/w: p = t when the radial side is the small one, 1/t otherwise.
+    let (p, ln1p_p2, ln1p_ip2, atan_p, atan_ip) =
+        if radial <= axial { (t, l1, l2, at, ait) } else { (1.0 / t, l2, l1, ait, at) };
+    let p2 = p * p;
+    let h_dlng = 0.5 + ln1p_p2 / (6.0 * p2) - p2 / 6.0 * ln1p_ip2 - 2.0 / (3.0 * p) * atan_p
+        + 2.0 * p / 3.0 * atan_ip;
     (l, dl_da, -MU0 * radius * h_dlng / radial)
 }
 

@@ -8,6 +8,7 @@
 //! files and prints nothing.
 
 pub mod coupling;
+pub mod dense;
 pub mod flow;
 pub mod mesh;
 pub mod motion;

@@ -49,6 +49,7 @@ use ode_solvers::{Dopri5, OutputType, System};
 use ringpulse_physics::{filament, inductance};
 
 use crate::coupling::{CouplingTables, RingShape};
+use crate::dense;
 use crate::mesh::{Mesh, Part};
 use crate::network::{project, LoopColumn, Network};
 use crate::transient::{slot, Circuit, Scales, StepperSettings};
@@ -823,21 +824,20 @@ impl MovingNetwork {
                 None => out.copy_from_slice(col),
             }
         }
-        // Schur complement S = Qᵀ (D − CᵀC) Q and its Cholesky factor (the buffer is handed to
-        // the factorisation and taken back after the solve, so nothing is allocated).
+        // Schur complement S = Qᵀ (D − CᵀC) Q and its Cholesky factor, in place (blocked:
+        // module `dense`).
         ws.s.copy_from(&ws.d);
         ws.cr.transpose_to(&mut ws.ct);
         ws.s.gemm(-1.0, &ws.ct, &ws.cr, 1.0);
-        let s = std::mem::replace(&mut ws.s, DMatrix::zeros(0, 0));
-        let Some(chol) = Cholesky::<f64, Dyn>::new(s) else {
-            // The factorisation consumed the buffer: give it back before failing, so that the
-            // next evaluation (the stepper retries with a shorter step) finds it whole.
-            ws.s = DMatrix::zeros(nh, nh);
+        if !dense::cholesky_in_place(&mut ws.s) {
             return Err(EngineError::IndefiniteInductance {
                 conductor: "the moving workpiece (cells too close to the coil or too deformed)"
                     .into(),
             });
-        };
+        }
+        // The buffer is handed to the solver and taken back after the solve (no allocation).
+        let chol =
+            Cholesky::<f64, Dyn>::pack_dirty(std::mem::replace(&mut ws.s, DMatrix::zeros(0, 0)));
         let nl = lay.nl;
         let psi = y.rows(0, nl) * scales.psi;
         // φ = L_A⁻¹ ψ_c, x_w = S⁻¹ (ψ_w − Cᵀ φ), ξ = φ − C x_w, x_c = L_A⁻ᵀ ξ, with C = U G:
@@ -857,7 +857,7 @@ impl MovingNetwork {
         }
         x_r.gemv_tr(-1.0, &ws.cr, &phi_u, 1.0);
         chol.solve_mut(&mut x_r);
-        ws.s = chol.unpack();
+        ws.s = chol.unpack_dirty();
         let g_x = &ws.cr * &x_r;
         let mut x_w = DVector::zeros(nw);
         // Physical currents of the representatives, in the order of `reps`.

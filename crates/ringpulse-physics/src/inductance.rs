@@ -135,9 +135,9 @@ pub fn ring_rectangular_with_slopes(radius: f64, radial: f64, axial: f64) -> (f6
     let at = t.atan();
     let ait = std::f64::consts::FRAC_PI_2 - at;
     // ln g − ln(big), as in `gmd_rectangle`.
-    let rest = 0.5 * l1 - l1 / (12.0 * t2) - t2 / 12.0 * l2 + 2.0 / (3.0 * t) * at
-        + 2.0 * t / 3.0 * ait
-        - 25.0 / 12.0;
+    let rest =
+        0.5 * l1 - l1 / (12.0 * t2) - t2 / 12.0 * l2 + 2.0 / (3.0 * t) * at + 2.0 * t / 3.0 * ait
+            - 25.0 / 12.0;
     let lead = (8.0 * radius).ln() - big.ln() - rest;
     let l = MU0 * radius * (lead - 2.0);
     let dl_da = MU0 * (lead - 1.0);

@@ -285,9 +285,19 @@ impl SolverSettings {
     /// with the workpiece moving: the case's values, else the defaults of that kind of run
     /// (`validate::defaults`: 1e-7 and 1e-9 at fixed geometry, 1e-6 and 1e-6 with motion).
     pub fn tolerances(&self, moving: bool) -> (f64, f64) {
+        self.tolerances_at(moving, false)
+    }
+
+    /// [`SolverSettings::tolerances`] for a run at the given resolution: with the workpiece
+    /// moving in the coarse preview (`preview`) the defaults are 1e-5 and 1e-5, matched to the
+    /// preview's much larger discretization error.
+    pub fn tolerances_at(&self, moving: bool, preview: bool) -> (f64, f64) {
         use crate::validate::defaults as d;
-        let (rel, abs) =
-            if moving { (d::MOTION_REL_TOL, d::MOTION_ABS_TOL) } else { (d::REL_TOL, d::ABS_TOL) };
+        let (rel, abs) = match (moving, preview) {
+            (false, _) => (d::REL_TOL, d::ABS_TOL),
+            (true, false) => (d::MOTION_REL_TOL, d::MOTION_ABS_TOL),
+            (true, true) => (d::PREVIEW_MOTION_REL_TOL, d::PREVIEW_MOTION_ABS_TOL),
+        };
         (self.rel_tol.unwrap_or(rel), self.abs_tol.unwrap_or(abs))
     }
 }

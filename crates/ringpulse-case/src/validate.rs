@@ -62,6 +62,14 @@ pub mod defaults {
     pub const MOTION_REL_TOL: f64 = 1e-6;
     /// Absolute tolerance on the scaled state with a moving workpiece.
     pub const MOTION_ABS_TOL: f64 = 1e-6;
+    /// Relative tolerance with a moving workpiece in the coarse preview: its discretization
+    /// error (about 1 % on the peak current against the default resolution) dwarfs the
+    /// stepper's at this setting (about 2e-4 on the efficiency, 2e-5 or less on the other
+    /// results of the expansion demo; docs/performance.md), at three quarters of the
+    /// evaluations.
+    pub const PREVIEW_MOTION_REL_TOL: f64 = 1e-5;
+    /// Absolute tolerance on the scaled state with a moving workpiece in the coarse preview.
+    pub const PREVIEW_MOTION_ABS_TOL: f64 = 1e-5;
     /// Initial temperature of every conductor, in kelvin (20 °C).
     pub const INITIAL_TEMPERATURE: f64 = 293.15;
     /// Reference temperature of a custom material's resistivity, in kelvin (20 °C).

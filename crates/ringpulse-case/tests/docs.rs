@@ -65,18 +65,20 @@ fn defaults_and_limits_are_documented() {
         (
             "rel_tol",
             format!(
-                "| `rel_tol` | plain number | no | {:e} (fixed geometry), {:e} (motion) | > 0 and <= {:e} |",
+                "| `rel_tol` | plain number | no | {:e} (fixed geometry), {:e} (motion), {:e} (motion in the coarse preview) | > 0 and <= {:e} |",
                 d::REL_TOL,
                 d::MOTION_REL_TOL,
+                d::PREVIEW_MOTION_REL_TOL,
                 d::REL_TOL_MAX
             ),
         ),
         (
             "abs_tol",
             format!(
-                "| `abs_tol` | plain number | no | {:e} (fixed geometry), {:e} (motion) |",
+                "| `abs_tol` | plain number | no | {:e} (fixed geometry), {:e} (motion), {:e} (motion in the coarse preview) |",
                 d::ABS_TOL,
-                d::MOTION_ABS_TOL
+                d::MOTION_ABS_TOL,
+                d::PREVIEW_MOTION_ABS_TOL
             ),
         ),
         ("initial_temperature", format!("| no | {} K (20 °C) |", d::INITIAL_TEMPERATURE)),

@@ -23,6 +23,9 @@ fn defaults_are_filled_in() {
     assert_eq!(c.solver.abs_tol, None);
     assert_eq!(c.solver.tolerances(false), (1e-7, 1e-9));
     assert_eq!(c.solver.tolerances(true), (1e-6, 1e-6));
+    // The coarse preview with motion: looser defaults, matched to its discretization.
+    assert_eq!(c.solver.tolerances_at(true, true), (1e-5, 1e-5));
+    assert_eq!(c.solver.tolerances_at(false, true), (1e-7, 1e-9));
     assert_eq!(c.solver.end_time, None);
     assert_eq!(c.solver.output_step, None);
     assert_eq!(c.initial_temperature, 293.15);

@@ -161,7 +161,8 @@ pub fn run_motion_with_progress(
         youngs_modulus: tube.material.youngs_modulus,
         flow: options.flow.unwrap_or_else(|| flow_law_for(&tube.material)),
     };
-    let (rel_tol, abs_tol) = case.solver.tolerances(true);
+    let preview = matches!(case.discretization.mode, ringpulse_case::Resolution::Coarse { .. });
+    let (rel_tol, abs_tol) = case.solver.tolerances_at(true, preview);
     // The coupling tables are kept a hundred times more accurate than the stepper's
     // relative tolerance, so that their error is lost in the stepper's.
     let mut net = MovingNetwork::new(

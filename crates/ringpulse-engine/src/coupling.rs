@@ -94,6 +94,9 @@ struct Window {
     /// For a ring with a mirror partner, per layer: n_coil × TERMS coefficients of
     /// ∂M_jk/∂a_j + ∂M_jk'/∂a_j; empty otherwise.
     fas: Vec<DMatrix<f64>>,
+    /// With a mirror pairing, per layer: the coil factors of the representative (`fas`, or
+    /// `fa` on the plane) in the basis F of their span, m_f × TERMS.
+    fap: Vec<DMatrix<f64>>,
 }
 
 /// The tables of all rings.
@@ -125,6 +128,11 @@ pub struct CouplingTables {
     /// With a mirror pairing, the basis Z of the axial factors' span (the windows' ∂C/∂z
     /// coefficients are in it); without one it stays empty and they are in U.
     zbasis: DMatrix<f64>,
+    /// With a mirror pairing, the basis F (n_coil × m_f) of the coil factors' span (the
+    /// columns of ∂M_jk/∂a_j over the coil filaments j are smooth in j as C's are).
+    fbasis: DMatrix<f64>,
+    /// Largest column norm of the coil-factor data (set by the first batch).
+    fa_norm_ref: f64,
     /// Largest column norm of the C data seen, and the factor that brings ∂C/∂z data to the
     /// same size (set by the first batch), for the basis threshold.
     norm_ref: f64,
@@ -325,12 +333,16 @@ impl CouplingTables {
             built: 0,
             basis: DMatrix::zeros(0, 0),
             zbasis: DMatrix::zeros(0, 0),
+            fbasis: DMatrix::zeros(0, 0),
+            fa_norm_ref: 0.0,
             norm_ref: 0.0,
             z_weight: 0.0,
         };
         let ncl = tables.g0.nrows();
         tables.basis = DMatrix::zeros(ncl, 0);
         tables.zbasis = DMatrix::zeros(ncl, 0);
+        let nc = tables.coil.len();
+        tables.fbasis = DMatrix::zeros(nc, 0);
         let radii: Vec<f64> = tables.rings.iter().map(|r| r.r0).collect();
         tables.ensure(&radii);
         tables
@@ -366,6 +378,12 @@ impl CouplingTables {
     /// Number of basis vectors m.
     pub fn rank(&self) -> usize {
         self.basis.ncols()
+    }
+
+    /// The basis F of the coil factors with a mirror pairing (n_coil × m_f; empty without
+    /// one): the columns of [`CouplingTables::fill_reduced_outputs`]'s `fa` are in it.
+    pub fn fbasis(&self) -> &DMatrix<f64> {
+        &self.fbasis
     }
 
     /// The basis Z of the axial factors with a mirror pairing (n_loops × m_z; empty
@@ -479,16 +497,47 @@ impl CouplingTables {
             self.basis.transpose()
         };
         let ut = self.basis.transpose();
+        // The representatives' coil factors (pair sums, or own on the plane) in a basis of
+        // their own, for the sampled coil forces (their 12 terms × n_coil values per filament
+        // otherwise stream through every sampled evaluation).
+        let uf = if mirrored {
+            let reps: Vec<&DMatrix<f64>> = windows
+                .iter()
+                .flat_map(|w| if w.fas.is_empty() { w.fa.iter() } else { w.fas.iter() })
+                .collect();
+            let nc = self.fbasis.nrows();
+            let mut data = DMatrix::<f64>::zeros(nc, reps.len() * TERMS);
+            for (i, m) in reps.iter().enumerate() {
+                data.columns_mut(i * TERMS, TERMS).copy_from(*m);
+            }
+            if self.fa_norm_ref == 0.0 {
+                self.fa_norm_ref = data.column_iter().map(|c| c.norm()).fold(0.0, f64::max);
+            }
+            absorb(&mut self.fbasis, &data, self.tolerance * self.fa_norm_ref);
+            Some(self.fbasis.transpose())
+        } else {
+            None
+        };
         windows
             .into_iter()
-            .map(|w| Window {
-                lo: w.lo,
-                hi: w.hi,
-                c: w.c.iter().map(|c| &ut * c).collect(),
-                cz: w.cz.iter().map(|c| &uz * c).collect(),
-                fa: w.fa,
-                cs: w.cs.iter().map(|c| &ut * c).collect(),
-                fas: w.fas,
+            .map(|w| {
+                let fap = match &uf {
+                    Some(uf) => if w.fas.is_empty() { &w.fa } else { &w.fas }
+                        .iter()
+                        .map(|m| uf * m)
+                        .collect(),
+                    None => Vec::new(),
+                };
+                Window {
+                    lo: w.lo,
+                    hi: w.hi,
+                    c: w.c.iter().map(|c| &ut * c).collect(),
+                    cz: w.cz.iter().map(|c| &uz * c).collect(),
+                    fa: w.fa,
+                    cs: w.cs.iter().map(|c| &ut * c).collect(),
+                    fas: w.fas,
+                    fap,
+                }
             })
             .collect()
     }
@@ -554,6 +603,7 @@ impl CouplingTables {
                 fa: Vec::with_capacity(layers),
                 cs: Vec::new(),
                 fas: Vec::new(),
+                fap: Vec::new(),
             };
             for _ in 0..layers {
                 win.c.push(coefficients(&cm.columns(col, TERMS).into_owned()));
@@ -659,8 +709,9 @@ impl CouplingTables {
     /// The outputs of a mirror-symmetric workpiece beyond the right-hand side, one column per
     /// representative filament k: in `cz` (as many rows as [`CouplingTables::zbasis`] has
     /// columns) its own Zᵀ ∂C_k/∂z (the partner's is its negative),
-    /// and in `fa` (n_coil rows) ∂M_jk/∂a_j + ∂M_jk'/∂a_j over the pair (the coil's radial
-    /// force factor against the pair's common current; its own for a ring on the plane).
+    /// and in `fa` (as many rows as [`CouplingTables::fbasis`] has columns) Fᵀ of
+    /// ∂M_jk/∂a_j + ∂M_jk'/∂a_j over the coil filaments j (the coil's radial force factor
+    /// against the pair's common current; its own for a ring on the plane).
     pub fn fill_reduced_outputs(
         &self,
         radii: &[f64],
@@ -678,11 +729,14 @@ impl CouplingTables {
                     *o += ta * c;
                 }
             }
-            let coef = if win.fas.is_empty() { &win.fa[j] } else { &win.fas[j] };
-            let mut v = fa.column_mut(a);
-            v.fill(0.0);
-            for (b, tb) in t.iter().enumerate() {
-                v.axpy(*tb, &coef.column(b), 1.0);
+            let coef = &win.fap[j];
+            let n = coef.nrows();
+            let out = column_mut(fa, a);
+            out.fill(0.0);
+            for (tb, src) in t.iter().zip(coef.as_slice().chunks_exact(n.max(1))) {
+                for (o, c) in out[..n].iter_mut().zip(src) {
+                    *o += tb * c;
+                }
             }
         });
     }

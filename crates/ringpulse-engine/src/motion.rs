@@ -174,8 +174,8 @@ struct Workspace {
     /// Own Zᵀ ∂C_k/∂z of each representative in the tables' axial basis Z, m_z × n_h, in
     /// H^½/m (with `reduced` and the sampled outputs).
     czr: DMatrix<f64>,
-    /// ∂M_jk/∂a_j summed over each representative's pair, n_c × n_h, in H/m (with `reduced`
-    /// and the sampled outputs).
+    /// ∂M_jk/∂a_j summed over each representative's pair, in the tables' coil-factor basis F,
+    /// m_f × n_h, in H/m (with `reduced` and the sampled outputs).
     far: DMatrix<f64>,
     /// True when the tables filled `cr` and `dcr` directly (mirror symmetry, no axial
     /// output): `c`, `dc`, `cz` and `dcz` are then stale.
@@ -677,6 +677,10 @@ impl MovingNetwork {
                 if ws.czr.nrows() != mz {
                     ws.czr = DMatrix::zeros(mz, ws.czr.ncols());
                 }
+                let mf = tables.fbasis().ncols();
+                if ws.far.nrows() != mf {
+                    ws.far = DMatrix::zeros(mf, ws.far.ncols());
+                }
                 tables.fill_reduced_outputs(&geo.ring_radius, &mut ws.czr, &mut ws.far);
             }
             return;
@@ -986,7 +990,8 @@ impl MovingNetwork {
         if full {
             let i_c = i_f.rows(0, w0).into_owned();
             let fc = if ws.reduced {
-                &self.grad_r_cc * &i_c + &ws.far * &x_rep
+                let tables = self.tables.borrow();
+                &self.grad_r_cc * &i_c + tables.fbasis() * (&ws.far * &x_rep)
             } else {
                 &self.grad_r_cc * &i_c + &ws.fa * &x_w
             };

@@ -216,8 +216,18 @@ fn series(
 /// largest residuals, orthonormalised twice by modified Gram–Schmidt (deterministic).
 fn absorb(basis: &mut DMatrix<f64>, data: &DMatrix<f64>, threshold: f64) {
     let n = basis.nrows();
-    let mut r = data.clone();
-    if basis.ncols() > 0 {
+    // Only columns above the threshold can ever need a basis vector (projecting out more of
+    // the basis only shrinks a residual), so the others are dropped at once, and every
+    // column whose residual falls below it is dropped as the basis grows: the residual
+    // updates, the cost of this function, then shrink with the active set.
+    let keep = |r: &DMatrix<f64>| -> (DMatrix<f64>, Vec<f64>) {
+        let norms: Vec<f64> = r.column_iter().map(|c| c.norm()).collect();
+        let active: Vec<usize> = (0..norms.len()).filter(|&j| norms[j] > threshold).collect();
+        let kept_norms = active.iter().map(|&j| norms[j]).collect();
+        (r.select_columns(active.iter()), kept_norms)
+    };
+    let (mut r, _) = keep(data);
+    if basis.ncols() > 0 && r.ncols() > 0 {
         for _ in 0..2 {
             // Uᵀ r as a plain product with the transpose (nalgebra's tr_mul takes one dot
             // product per entry, several times slower for these sizes).
@@ -226,11 +236,12 @@ fn absorb(basis: &mut DMatrix<f64>, data: &DMatrix<f64>, threshold: f64) {
         }
     }
     loop {
-        let norms: Vec<f64> = r.column_iter().map(|c| c.norm()).collect();
-        let mut order: Vec<usize> = (0..norms.len()).filter(|&j| norms[j] > threshold).collect();
-        if order.is_empty() || basis.ncols() >= n {
+        let (active, norms) = keep(&r);
+        r = active;
+        if r.ncols() == 0 || basis.ncols() >= n {
             break;
         }
+        let mut order: Vec<usize> = (0..norms.len()).collect();
         order.sort_by(|&a, &b| norms[b].total_cmp(&norms[a]).then(a.cmp(&b)));
         order.truncate(16);
         let mut added: Vec<DVector<f64>> = Vec::new();

@@ -3,7 +3,7 @@
 //! coarse preview, plus the series-RLC reference problem of the tests.
 //!
 //! Run with `cargo bench -p ringpulse-engine --bench demos` (a few minutes: the moving runs at
-//! default resolution take seconds each). The engine is single-threaded, so the figures are
+//! default resolution take about a second each). The engine is single-threaded, so the figures are
 //! for one core. Targets: fixed geometry (engine issue), expansion demo at default resolution
 //! under 250 ms and its coarse preview under 10 ms; with motion (motion issue), under 1 s and
 //! 50 ms. Results are recorded in docs/performance.md.

@@ -1825,13 +1825,28 @@ mod tests {
     #[test]
     fn mirror_reduction_matches_the_full_network() {
         let mut case = crate::reference::coarse_expansion_case();
+        // Two layers, an even number of rings (no ring on the plane); then one layer of an
+        // odd number, whose middle ring lies on the plane and is its own partner.
         case.discretization.mode =
             ringpulse_case::Resolution::SkinDepth { cell_over_skin_depth: 1.0 };
+        check_mirror_reduction(&case, false);
+        // (a request of 15 cells gives one layer of 27 rings on this tube)
+        case.discretization.mode = ringpulse_case::Resolution::Coarse { tube_rings: 15 };
+        check_mirror_reduction(&case, true);
+    }
+
+    fn check_mirror_reduction(case: &ringpulse_case::Case, ring_on_plane: bool) {
         let tol = 1e-9;
-        let mut net = network(&case, tol);
+        let mut net = network(case, tol);
         assert!(!net.axial_free());
         let nw: usize = net.rings.iter().map(|r| r.filaments.len()).sum();
         assert!(2 * net.reps.len() <= nw + 4, "{} representatives of {nw}", net.reps.len());
+        assert_eq!(
+            net.reps.iter().any(|r| r.partner.is_none()),
+            ring_on_plane,
+            "{} rings",
+            net.n_rings()
+        );
         let lay = net.layout();
         let ms = MechScales { length: 1.5e-3, velocity: 100.0, temperature: 300.0 };
         let nr = net.n_rings();

@@ -82,8 +82,8 @@ pub fn complete_e(mc: f64) -> f64 {
 /// where K(mc) and E(mc) on the second line come from the first, and A, B, P, G are smooth
 /// on [0, 1/2]: the logarithmic terms of K and E near κ = 1 have the coefficients K(κ'²)/π
 /// and (K(κ'²) − E(κ'²))/π (DLMF 19.12.1, 19.12.2), so P = K + ln(mc) K(mc)/π and
-/// G = K − E + ln(mc) E(mc)/π have no logarithm left. Each is a polynomial of degree 10 on
-/// eight intervals of width 1/16, fitted with mpmath to 2e-18 relative
+/// G = K − E + ln(mc) E(mc)/π have no logarithm left. Each is a polynomial of degree 7 on
+/// 32 intervals of width 1/64, fitted with mpmath to 2e-18 relative
 /// (`tools/gen_elliptic_fit.py`, which writes `elliptic_fit.rs` and checks the assembled K and
 /// K − E at 4000 points to 6e-17); in double precision the results are within a few ulps.
 /// This replaces the arithmetic-geometric mean (DLMF 19.8.1, 19.8.6), whose five or six
@@ -111,13 +111,14 @@ pub fn complete_k_and_difference(m: f64, mc: f64) -> (f64, f64) {
     (piece(&fit::P, mc) - lg * kc, piece(&fit::G, mc) - lg * ec)
 }
 
-/// One of the fitted functions at x in [0, 1/2]: the polynomial of its interval (width 1/16)
+/// One of the fitted functions at x in [0, 1/2]: the polynomial of its interval (width 1/64)
 /// in u = x − centre, by Horner's rule.
 #[inline]
-fn piece<const N: usize>(table: &[[f64; N]; 8], x: f64) -> f64 {
+fn piece<const N: usize>(table: &[[f64; N]; fit::INTERVALS], x: f64) -> f64 {
     // x ≤ 1/2 here; the clamp keeps x = 1/2 in the last interval.
-    let i = ((x * 16.0) as usize).min(7);
-    let u = x - (i as f64 + 0.5) / 16.0;
+    const PER_UNIT: f64 = (2 * fit::INTERVALS) as f64;
+    let i = ((x * PER_UNIT) as usize).min(fit::INTERVALS - 1);
+    let u = x - (i as f64 + 0.5) / PER_UNIT;
     let c = &table[i];
     let mut acc = c[N - 1];
     for k in (0..N - 1).rev() {

@@ -532,6 +532,12 @@ impl MovingNetwork {
         Layout { nl, mech, rings, temps, len: temps + self.base.mesh.filaments.len() }
     }
 
+    /// The mirror partner of ring q (q itself on the plane or without symmetry): its state,
+    /// forces and events are ring q's.
+    pub fn ring_partner(&self, q: usize) -> usize {
+        self.ring_partner[q]
+    }
+
     /// Initial mean radius of ring q, in metres.
     pub fn ring_r0(&self, q: usize) -> f64 {
         self.rings[q].r0
@@ -1006,6 +1012,14 @@ impl MovingNetwork {
         let mut ring_hoop = Vec::with_capacity(nr);
         let mut ring_temperature = vec![0.0; nr];
         for (q, ring) in self.rings.iter().enumerate() {
+            let p = self.ring_partner[q];
+            if p < q {
+                // A mirror ring: its partner's state, so its partner's stress.
+                ring_stress[q] = ring_stress[p];
+                ring_hoop.push(ring_hoop[p]);
+                ring_temperature[q] = ring_temperature[p];
+                continue;
+            }
             let base_q = lay.rings + 4 * q;
             let r = geo.ring_radius[q];
             let v = y[base_q + 1] * ms.velocity;
@@ -1374,6 +1388,8 @@ impl<'a> MotionRhs<'a> {
         dy[lay.mech + mslot::Z] = vz / ms.length;
         dy[lay.mech + mslot::VZ] = ev.axial_force / net.total_mass / ms.velocity;
         w_mech += ev.axial_force * vz;
+        // A mirror ring's state equals its partner's, and so do its plastic rates.
+        let mut ring_rates: Vec<PlasticRates> = Vec::with_capacity(net.rings.len());
         // `q` indexes the ring, its state slots and four per-ring vectors at once.
         #[allow(clippy::needless_range_loop)]
         for q in 0..net.rings.len() {
@@ -1394,8 +1410,11 @@ impl<'a> MotionRhs<'a> {
                 w_mech += ev.ring_force[q] * v_q;
                 w_int += 2.0 * std::f64::consts::PI * area * sigma * v_q;
             }
+            let partner = net.ring_partner[q];
             let rates = if self.flags.held[q] {
                 PlasticRates { strain: 0.0, hardening: 0.0, u: 0.0 }
+            } else if partner < q {
+                ring_rates[partner]
             } else {
                 let r = ev.ring_radius[q];
                 let acc = dy[base_q + 1] * ms.velocity;
@@ -1412,6 +1431,7 @@ impl<'a> MotionRhs<'a> {
                     &mech.flow,
                 )
             };
+            ring_rates.push(rates);
             let rate = rates.strain;
             // On the yield surface the plastic strain is ε − σ/E by consistency; it is set so
             // when the ring leaves the surface ([`MovingNetwork::to_elastic`]) rather than
@@ -1442,7 +1462,8 @@ impl<'a> MotionRhs<'a> {
             out.push(Event::Crowbar);
         }
         for q in 0..self.net.rings.len() {
-            if self.flags.held[q] {
+            // A mirror ring's events are its partner's (the run applies them to both).
+            if self.flags.held[q] || self.net.ring_partner[q] < q {
                 continue;
             }
             if let Some(g) = self.net.stop_gap(q, y, &self.ms) {

@@ -284,6 +284,22 @@ pub fn run_motion_with_progress(
         let mut contact = false;
         // Shortest yield onset among the rings that yield here, in seconds.
         let mut onset = f64::INFINITY;
+        // A ring's event is also its mirror partner's (the stepper reports one of each pair).
+        let with_partners = located.iter().flat_map(|&(event, t_ev)| {
+            let mirror = match event {
+                Event::Stop(q) | Event::Yield(q) | Event::Unload(q) => {
+                    let p = net.ring_partner(q);
+                    (p != q).then_some(match event {
+                        Event::Stop(_) => Event::Stop(p),
+                        Event::Yield(_) => Event::Yield(p),
+                        _ => Event::Unload(p),
+                    })
+                }
+                _ => None,
+            };
+            std::iter::once((event, t_ev)).chain(mirror.map(|m| (m, t_ev)))
+        });
+        let located: Vec<(Event, f64)> = with_partners.collect();
         for &(event, t_ev) in &located {
             if t_ev > t_e * (1.0 + 1e-12) + 1e-18 {
                 continue;
@@ -435,7 +451,9 @@ pub fn run_motion_with_progress(
             ring_strain[q] = (r / net.ring_r0(q)).ln();
             ring_z[q] = net.ring_z0(q) + z_shift;
             let disp = r - net.ring_r0(q);
-            if disp.abs() > max_disp.0.abs() {
+            // Ties within rounding (a band of rings held at the die) keep the first ring found,
+            // so that the reported position does not hop between them with the last digit.
+            if disp.abs() > max_disp.0.abs() * (1.0 + 1e-9) {
                 max_disp = (disp, net.ring_z0(q));
             }
             if v.abs() > max_vel.abs() {
@@ -586,6 +604,8 @@ pub fn run_motion_with_progress(
     let peak_workpiece_temperature =
         Some((w0..n_fil).map(temp).fold(case.initial_temperature, f64::max));
 
+    // In time order, rings in index order within one instant.
+    impacts.sort_by(|a, b| a.1.total_cmp(&b.1).then(a.0.cmp(&b.0)));
     let motion = MotionSummary {
         max_displacement: max_disp.0,
         max_displacement_z: max_disp.1,

@@ -38,6 +38,15 @@
 //! outside the basis below `tolerance` times the largest column), and the engine works with
 //! C = U G: the products of every evaluation shrink by the same factor, and so does the
 //! memory the evaluation streams through.
+//!
+//! With a mirror pairing (a set-up that is its own mirror image; module `motion`, "Mirror
+//! symmetry") only one ring of each pair gets windows. They hold the combined columns
+//! (C_k + C_k')/√2 of a layer and its partner at the same radius, which the right-hand side
+//! needs, with the partner's values taken from the coil's mirror image (M(coil i, k') =
+//! M(coil image(i), k)), so no kernel calls are added. The basis U then spans only these
+//! combined columns (49 directions on the expansion demo instead of 106); the own ∂C_k/∂z
+//! (for the reported axial forces) and the pair-summed coil factors (for the coil's forces)
+//! get bases of their own, used only by the sampled output.
 
 use nalgebra::{DMatrix, DVector};
 use ringpulse_physics::filament;

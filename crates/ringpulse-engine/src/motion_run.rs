@@ -648,7 +648,13 @@ pub fn run_motion_with_progress(
         motion: Some(motion),
         end_time: t_stop,
     };
-    let mut stats = SolverStats { min_dt: f64::INFINITY, assembly_time, ..SolverStats::default() };
+    let mut stats = SolverStats {
+        min_dt: f64::INFINITY,
+        assembly_time,
+        rel_tol: settings.rel_tol,
+        abs_tol: settings.abs_tol,
+        ..SolverStats::default()
+    };
     for seg in &segments {
         stats.steps += seg.counts.0;
         stats.rejected_steps += seg.counts.1;

@@ -289,6 +289,11 @@ pub struct SolverStats {
     /// Wall time of the time stepping and sampling, in seconds.
     #[serde(rename = "stepping_time_s")]
     pub stepping_time: f64,
+    /// Relative tolerance the stepper ran with (the case's, or the default of the run's kind:
+    /// fixed geometry, motion, or motion in the coarse preview).
+    pub rel_tol: f64,
+    /// Absolute tolerance on the scaled state the stepper ran with.
+    pub abs_tol: f64,
 }
 
 /// How the conductors were split.

@@ -663,7 +663,13 @@ pub fn run_with_probes(
         end_time: t_end,
     };
 
-    let mut stats = SolverStats { min_dt: f64::INFINITY, assembly_time, ..SolverStats::default() };
+    let mut stats = SolverStats {
+        min_dt: f64::INFINITY,
+        assembly_time,
+        rel_tol: settings.rel_tol,
+        abs_tol: settings.abs_tol,
+        ..SolverStats::default()
+    };
     for seg in std::iter::once(&first).chain(second.as_ref().map(|(s, _)| s)) {
         stats.steps += seg.counts.0;
         stats.rejected_steps += seg.counts.1;

@@ -243,12 +243,14 @@ pub fn format_report(meta: &RunMeta, r: &RunResult) -> String {
         &mut out,
         "stepper",
         &format!(
-            "{} steps ({} rejected), {} evaluations, dt {} .. {}",
+            "{} steps ({} rejected), {} evaluations, dt {} .. {}, tolerances {:.0e} relative, {:.0e} absolute",
             st.steps,
             st.rejected_steps,
             st.rhs_evaluations,
             eng(st.min_dt, "s"),
-            eng(st.max_dt, "s")
+            eng(st.max_dt, "s"),
+            st.rel_tol,
+            st.abs_tol
         ),
     );
     row(

@@ -213,6 +213,31 @@ impl Checker {
                     (Got::Bad, _) => None,
                 }
             };
+        // Fields the chosen law does not read are ignored, with a warning (a sweep over one
+        // would otherwise change nothing without a word).
+        let (reads, what): (&[&str], String) = match law {
+            "constant" => (&["stress"], "the constant law".into()),
+            "power" => (&["k", "n", "prestrain"], "the power law".into()),
+            "johnson_cook" => match f.get("set") {
+                Some(Value::String(name)) => {
+                    (&["set"], format!("the Johnson-Cook law with the published set \"{name}\""))
+                }
+                _ => (
+                    &["set", "a", "b", "n", "c", "m", "melting_point", "reference_rate"],
+                    "the Johnson-Cook law".into(),
+                ),
+            },
+            _ => (FLOW_FIELDS, String::new()),
+        };
+        for key in f.keys() {
+            let key = key.as_str();
+            if FLOW_FIELDS.contains(&key)
+                && !["notes", "law"].contains(&key)
+                && !reads.contains(&key)
+            {
+                self.warn(&join(path, key), format!("not used by {what}; ignored"));
+            }
+        }
         match law {
             "constant" => {
                 Some(FlowStress::Constant { stress: stress(self, "stress", Range::Positive)? })

@@ -51,3 +51,29 @@ fn stop_and_flow_law_parse() {
     assert!(err.contains("motion.flow_stress.set: unknown parameter set \"unobtainium\""), "{err}");
     assert!(err.contains("motion.speed: unknown field"), "{err}");
 }
+
+/// Fields the chosen flow law does not read are ignored with a warning that names them.
+#[test]
+fn flow_fields_the_law_does_not_read_are_flagged() {
+    let m = json!({ "flow_stress": { "law": "power", "k": "500 MPa", "n": 0.25, "c": 0.02, "stress": "200 MPa" } });
+    let (c, warnings) = load_case(&case(Some(m), true), "h").unwrap();
+    assert!(matches!(c.motion.flow_stress, Some(FlowStress::PowerLaw { .. })));
+    let joined = warnings.join("\n");
+    assert!(
+        joined.contains("motion.flow_stress.c: not used by the power law; ignored"),
+        "{joined}"
+    );
+    assert!(joined.contains("motion.flow_stress.stress: not used by the power law"), "{joined}");
+    let jc = json!({ "flow_stress": { "law": "johnson_cook", "set": "ofhc_copper", "a": "100 MPa", "reference_rate": 10 } });
+    let (_, warnings) = load_case(&case(Some(jc), true), "i").unwrap();
+    let joined = warnings.join("\n");
+    assert!(
+        joined.contains("motion.flow_stress.a: not used by the Johnson-Cook law with the published set \"ofhc_copper\""),
+        "{joined}"
+    );
+    assert!(joined.contains("motion.flow_stress.reference_rate: not used"), "{joined}");
+    // A law's own fields raise nothing.
+    let ok = json!({ "flow_stress": { "law": "constant", "stress": "200 MPa", "notes": "plain" } });
+    let (_, warnings) = load_case(&case(Some(ok), true), "j").unwrap();
+    assert!(warnings.iter().all(|w| !w.contains("flow_stress")), "{warnings:?}");
+}

@@ -287,6 +287,21 @@ fn absorb(basis: &mut DMatrix<f64>, data: &DMatrix<f64>, threshold: f64) {
     }
 }
 
+/// Sums a series (no derivative) into a column; as [`series`], rows the window predates stay
+/// zero.
+fn series_value(coef: &DMatrix<f64>, t: &[f64; TERMS], value: &mut [f64]) {
+    let n = coef.nrows();
+    value.fill(0.0);
+    if n == 0 {
+        return;
+    }
+    for (ta, src) in t.iter().zip(coef.as_slice().chunks_exact(n)) {
+        for (v, c) in value[..n].iter_mut().zip(src) {
+            *v += ta * c;
+        }
+    }
+}
+
 /// Column k of a column-major matrix as a slice.
 fn column_mut(m: &mut DMatrix<f64>, k: usize) -> &mut [f64] {
     let n = m.nrows();
@@ -641,29 +656,11 @@ impl CouplingTables {
         out
     }
 
-    /// Calls `f(k, window, layer, x)` for every workpiece filament k (ring by ring, layers
-    /// inner first, as the mesh orders them) whose ring's radius in `radii` (metres) a window
-    /// covers, with x the radius mapped to [-1, 1] in that window. A ring without a window
-    /// (only for a non-finite radius, which the caller reports) is skipped.
-    fn each_filament(&self, radii: &[f64], mut f: impl FnMut(usize, &Window, usize, f64)) {
-        let mut k = 0;
-        for (q, &r) in radii.iter().enumerate() {
-            let layers = self.rings[q].layers;
-            if let Some(wi) = self.find(q, r) {
-                let win = &self.windows[q][wi];
-                let x = (2.0 * r - win.lo - win.hi) / (win.hi - win.lo);
-                for j in 0..layers {
-                    f(k + j, win, j, x);
-                }
-            }
-            k += layers;
-        }
-    }
-
     /// Fills column k of `c` with G_k = Uᵀ C_k and of `dc` with ∂G_k/∂r_q for every workpiece
     /// filament, and with `axial` also ∂G_k/∂z and ∂²G_k/∂z∂r_q, for rings at mean radii
     /// `radii` (metres). The matrices must have [`CouplingTables::rank`] rows after
     /// [`CouplingTables::ensure`], which builds missing windows and may grow the basis.
+    /// For tables without a mirror pairing (with one, [`CouplingTables::fill_reduced`]).
     pub fn fill(
         &self,
         radii: &[f64],
@@ -671,7 +668,7 @@ impl CouplingTables {
         dc: &mut DMatrix<f64>,
         mut axial: Option<(&mut DMatrix<f64>, &mut DMatrix<f64>)>,
     ) {
-        self.each_filament(radii, |k, win, j, x| {
+        self.each_column(radii, |k, win, j, x| {
             let scale = 2.0 / (win.hi - win.lo);
             let (t, d) = chebyshev(x);
             series(&win.c[j], &t, &d, scale, column_mut(c, k), column_mut(dc, k));
@@ -681,10 +678,13 @@ impl CouplingTables {
         });
     }
 
-    /// Calls `f(a, window, layer, x)` for every representative filament a of a mirror pairing
-    /// (the layers of each ring whose partner's index is not below its own, in ring order;
-    /// every filament without symmetry), as [`CouplingTables::each_filament`] does.
-    fn each_rep(&self, radii: &[f64], mut f: impl FnMut(usize, &Window, usize, f64)) {
+    /// Calls `f(a, window, layer, x)` for every filament with tables: every workpiece
+    /// filament (ring by ring, layers inner first, as the mesh orders them) without a mirror
+    /// pairing, the representatives (the layers of each ring whose partner's index is not
+    /// below its own, in ring order) with one; x is the ring's radius in `radii` (metres)
+    /// mapped to [-1, 1] in the window that covers it. A ring without a window (only for a
+    /// non-finite radius, which the caller reports) is skipped.
+    fn each_column(&self, radii: &[f64], mut f: impl FnMut(usize, &Window, usize, f64)) {
         let mut a = 0;
         for (q, &r) in radii.iter().enumerate() {
             if self.partner[q] < q {
@@ -715,7 +715,7 @@ impl CouplingTables {
         dc: &mut DMatrix<f64>,
         keep: Option<&[bool]>,
     ) {
-        self.each_rep(radii, |a, win, j, x| {
+        self.each_column(radii, |a, win, j, x| {
             if keep.is_some_and(|k| k.get(a).copied().unwrap_or(false)) {
                 return;
             }
@@ -738,32 +738,18 @@ impl CouplingTables {
         cz: &mut DMatrix<f64>,
         fa: &mut DMatrix<f64>,
     ) {
-        self.each_rep(radii, |a, win, j, x| {
+        self.each_column(radii, |a, win, j, x| {
             let (t, _) = chebyshev(x);
-            let coef = &win.cz[j];
-            let n = coef.nrows();
-            let out = column_mut(cz, a);
-            out.fill(0.0);
-            for (ta, src) in t.iter().zip(coef.as_slice().chunks_exact(n)) {
-                for (o, c) in out[..n].iter_mut().zip(src) {
-                    *o += ta * c;
-                }
-            }
-            let coef = &win.fap[j];
-            let n = coef.nrows();
-            let out = column_mut(fa, a);
-            out.fill(0.0);
-            for (tb, src) in t.iter().zip(coef.as_slice().chunks_exact(n.max(1))) {
-                for (o, c) in out[..n].iter_mut().zip(src) {
-                    *o += tb * c;
-                }
-            }
+            series_value(&win.cz[j], &t, column_mut(cz, a));
+            series_value(&win.fap[j], &t, column_mut(fa, a));
         });
     }
 
-    /// Fills column k of `fa` (n_coil × n_workpiece) with ∂M_jk/∂a_j for rings at `radii`.
+    /// Fills column k of `fa` (n_coil × n_workpiece) with ∂M_jk/∂a_j for rings at `radii`
+    /// (metres), in H/m. For tables without a mirror pairing (with one,
+    /// [`CouplingTables::fill_reduced_outputs`]).
     pub fn fill_coil_factors(&self, radii: &[f64], fa: &mut DMatrix<f64>) {
-        self.each_filament(radii, |k, win, j, x| {
+        self.each_column(radii, |k, win, j, x| {
             let (t, _) = chebyshev(x);
             let mut v = fa.column_mut(k);
             v.fill(0.0);

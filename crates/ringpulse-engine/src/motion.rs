@@ -415,31 +415,7 @@ impl MovingNetwork {
         let reps = representatives(&rings, &ring_partner);
         let nh = reps.len();
         let z_shift_max = 0.2 * (100.0 * table_tolerance).sqrt() * closest_pair;
-        let ws = Workspace {
-            projected: false,
-            c: DMatrix::zeros(n_coil_loops, nw),
-            cr: DMatrix::zeros(n_coil_loops, nh),
-            dcr: DMatrix::zeros(n_coil_loops, nh),
-            czr: DMatrix::zeros(n_coil_loops, nh),
-            far: DMatrix::zeros(w0, nh),
-            reduced: false,
-            ct: DMatrix::zeros(nh, n_coil_loops),
-            dc: DMatrix::zeros(n_coil_loops, nw),
-            cz: DMatrix::zeros(n_coil_loops, nw),
-            dcz: DMatrix::zeros(n_coil_loops, nw),
-            m: DMatrix::zeros(w0, nw),
-            mr: DMatrix::zeros(w0, nw),
-            mz: DMatrix::zeros(w0, nw),
-            d: DMatrix::zeros(nh, nh),
-            gd: DMatrix::zeros(nh, nh),
-            s: DMatrix::zeros(nh, nh),
-            self_dr: vec![0.0; nw],
-            prev_wr: vec![f64::NAN; nw],
-            prev_wz: vec![f64::NAN; nw],
-            same: vec![false; nh],
-            cr_stamp: None,
-            fa: DMatrix::zeros(w0, nw),
-        };
+        let ws = Workspace::new(n_coil_loops, nw, nh, w0);
         Ok(MovingNetwork {
             n_coil_loops,
             l_a,
@@ -485,19 +461,9 @@ impl MovingNetwork {
             mirror.map_or_else(|| (0..self.rings.len()).collect(), |(p, _)| p);
         self.reps = representatives(&self.rings, &partner);
         self.ring_partner = partner;
-        let nh = self.reps.len();
         let ws = self.ws.get_mut();
-        let rows = ws.c.nrows();
-        ws.cr = DMatrix::zeros(rows, nh);
-        ws.dcr = DMatrix::zeros(rows, nh);
-        ws.ct = DMatrix::zeros(nh, rows);
-        ws.d = DMatrix::zeros(nh, nh);
-        ws.gd = DMatrix::zeros(nh, nh);
-        ws.s = DMatrix::zeros(nh, nh);
-        ws.same = vec![false; nh];
-        ws.prev_wr.fill(f64::NAN);
-        ws.prev_wz.fill(f64::NAN);
-        ws.cr_stamp = None;
+        let (rows, nw, w0) = (ws.c.nrows(), ws.c.ncols(), ws.m.nrows());
+        *ws = Workspace::new(rows, nw, self.reps.len(), w0);
     }
 
     /// Whether the rigid axial motion is integrated (false for a mirror-symmetric set-up,
@@ -1060,6 +1026,36 @@ impl MovingNetwork {
 }
 
 impl Workspace {
+    /// Buffers for `rows` coupling rows, `nw` workpiece filaments of which `nh` are
+    /// representatives, and `w0` coil filaments; nothing cached yet.
+    fn new(rows: usize, nw: usize, nh: usize, w0: usize) -> Workspace {
+        Workspace {
+            projected: false,
+            c: DMatrix::zeros(rows, nw),
+            cr: DMatrix::zeros(rows, nh),
+            dcr: DMatrix::zeros(rows, nh),
+            czr: DMatrix::zeros(rows, nh),
+            far: DMatrix::zeros(w0, nh),
+            reduced: false,
+            ct: DMatrix::zeros(nh, rows),
+            dc: DMatrix::zeros(rows, nw),
+            cz: DMatrix::zeros(rows, nw),
+            dcz: DMatrix::zeros(rows, nw),
+            m: DMatrix::zeros(w0, nw),
+            mr: DMatrix::zeros(w0, nw),
+            mz: DMatrix::zeros(w0, nw),
+            d: DMatrix::zeros(nh, nh),
+            gd: DMatrix::zeros(nh, nh),
+            s: DMatrix::zeros(nh, nh),
+            self_dr: vec![0.0; nw],
+            prev_wr: vec![f64::NAN; nw],
+            prev_wz: vec![f64::NAN; nw],
+            same: vec![false; nh],
+            cr_stamp: None,
+            fa: DMatrix::zeros(w0, nw),
+        }
+    }
+
     /// Gives the coupling buffers `rows` rows (a new basis size, or the exact path's n_cl).
     fn set_rows(&mut self, rows: usize) {
         if self.c.nrows() == rows {

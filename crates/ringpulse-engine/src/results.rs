@@ -296,6 +296,39 @@ pub struct SolverStats {
     pub abs_tol: f64,
 }
 
+impl SolverStats {
+    /// The statistics of a run made of segments, each given as its (accepted, rejected,
+    /// evaluations) counts and its (smallest, largest) accepted step in seconds; with the
+    /// assembly and stepping wall times in seconds and the (relative, absolute) tolerances.
+    pub fn from_segments(
+        segments: impl IntoIterator<Item = ((u64, u64, u64), (f64, f64))>,
+        assembly_time: f64,
+        stepping_time: f64,
+        (rel_tol, abs_tol): (f64, f64),
+    ) -> SolverStats {
+        let mut stats = SolverStats {
+            min_dt: f64::INFINITY,
+            assembly_time,
+            stepping_time,
+            rel_tol,
+            abs_tol,
+            ..SolverStats::default()
+        };
+        for (counts, dt_range) in segments {
+            stats.steps += counts.0;
+            stats.rejected_steps += counts.1;
+            stats.rhs_evaluations += counts.2;
+            stats.min_dt = stats.min_dt.min(dt_range.0);
+            stats.max_dt = stats.max_dt.max(dt_range.1);
+            stats.segments += 1;
+        }
+        if !stats.min_dt.is_finite() {
+            stats.min_dt = 0.0;
+        }
+        stats
+    }
+}
+
 /// How the conductors were split.
 #[derive(Debug, Clone, Serialize, Default)]
 pub struct MeshInfo {

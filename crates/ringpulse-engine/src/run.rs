@@ -663,25 +663,14 @@ pub fn run_with_probes(
         end_time: t_end,
     };
 
-    let mut stats = SolverStats {
-        min_dt: f64::INFINITY,
+    let stats = SolverStats::from_segments(
+        std::iter::once(&first)
+            .chain(second.as_ref().map(|(s, _)| s))
+            .map(|seg| (seg.counts, seg.dt_range)),
         assembly_time,
-        rel_tol: settings.rel_tol,
-        abs_tol: settings.abs_tol,
-        ..SolverStats::default()
-    };
-    for seg in std::iter::once(&first).chain(second.as_ref().map(|(s, _)| s)) {
-        stats.steps += seg.counts.0;
-        stats.rejected_steps += seg.counts.1;
-        stats.rhs_evaluations += seg.counts.2;
-        stats.min_dt = stats.min_dt.min(seg.dt_range.0);
-        stats.max_dt = stats.max_dt.max(seg.dt_range.1);
-        stats.segments += 1;
-    }
-    if !stats.min_dt.is_finite() {
-        stats.min_dt = 0.0;
-    }
-    stats.stepping_time = started.elapsed().as_secs_f64();
+        started.elapsed().as_secs_f64(),
+        (settings.rel_tol, settings.abs_tol),
+    );
 
     let mesh = &net.mesh;
     let coil_delta =

@@ -229,9 +229,9 @@ pub fn mutual_inductance_with_gradient(a: f64, b: f64, z: f64) -> MutualGradient
         return MutualGradient::COINCIDENT;
     }
     let s = r1 + r2;
-    // Three divisions for the whole pair; the rest are products with these reciprocals (the
-    // divider is the bottleneck of this function). Products of a and b with the same
-    // reciprocal keep the matrix exactly symmetric under a ↔ b.
+    // Three reciprocals for the whole pair (a fourth division is in the cancellation-free ∂S
+    // of the smaller radius, `ds_both`); the rest are products with them. Products of a and b
+    // with the same reciprocal keep the matrix exactly symmetric under a ↔ b.
     let inv_s = 1.0 / s;
     let inv_r1 = 1.0 / r1;
     let inv_r2 = 1.0 / r2;

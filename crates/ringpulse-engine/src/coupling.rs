@@ -49,7 +49,7 @@
 //! get bases of their own, used only by the sampled output.
 
 use nalgebra::{DMatrix, DVector};
-use ringpulse_physics::filament;
+use ringpulse_physics::batch::{gradient_batch, GradientBatch};
 
 use crate::mesh::Filament;
 
@@ -598,6 +598,7 @@ impl CouplingTables {
         let mut mas = DMatrix::<f64>::zeros(nc, cols_s);
         let mut col = 0;
         let mut col_s = 0;
+        let mut pairs = GradientBatch::default();
         for &(q, lo, hi) in wanted {
             let ring = &self.rings[q];
             for j in 0..ring.layers {
@@ -605,8 +606,13 @@ impl CouplingTables {
                     let r = 0.5 * (lo + hi) + 0.5 * (hi - lo) * xi;
                     let rk = ring.layer_radius(j, r);
                     let zk = ring.z0 + self.z_anchor;
-                    for (i, c) in self.coil.iter().enumerate() {
-                        let g = filament::mutual_inductance_with_gradient(c.r, rk, zk - c.z);
+                    pairs.clear();
+                    for c in &self.coil {
+                        pairs.push(c.r, rk, zk - c.z);
+                    }
+                    gradient_batch(&mut pairs);
+                    for i in 0..self.coil.len() {
+                        let g = pairs.get(i);
                         m[(i, col)] = g.m;
                         mz[(i, col)] = g.dm_dz;
                         ma[(i, col)] = g.dm_da;

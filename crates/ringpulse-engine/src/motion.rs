@@ -46,7 +46,8 @@ use crate::flow::{
 use nalgebra::{Cholesky, DMatrix, DVector, Dyn};
 use ode_solvers::continuous_output_model::ContinuousOutputModel;
 use ode_solvers::{Dopri5, OutputType, System};
-use ringpulse_physics::{filament, inductance};
+use ringpulse_physics::batch::{gradient_batch, GradientBatch};
+use ringpulse_physics::inductance;
 
 use crate::coupling::{CouplingTables, RingShape};
 use crate::dense;
@@ -219,6 +220,8 @@ struct Workspace {
     cr_stamp: Option<(usize, usize)>,
     /// ∂M_jk/∂a_j, coil filament j against workpiece filament k, n_c × n_w, in H/m.
     fa: DMatrix<f64>,
+    /// The kernel pairs of one workpiece block (or one exact coupling), evaluated together.
+    pairs: GradientBatch,
 }
 
 /// Layout of the state vector after the flux linkages.
@@ -600,10 +603,19 @@ impl MovingNetwork {
         let mesh: &Mesh = &self.base.mesh;
         let w0 = mesh.workpiece_start();
         let nw = mesh.filaments.len() - w0;
+        let (pa, pb, pz) = ws.pairs.inputs_mut(nw * w0);
+        for k in 0..nw {
+            for (j, c) in mesh.filaments[..w0].iter().enumerate() {
+                let p = k * w0 + j;
+                pa[p] = c.r;
+                pb[p] = geo.wr[k];
+                pz[p] = geo.wz[k] - c.z;
+            }
+        }
+        gradient_batch(&mut ws.pairs);
         for k in 0..nw {
             for j in 0..w0 {
-                let c = &mesh.filaments[j];
-                let g = filament::mutual_inductance_with_gradient(c.r, geo.wr[k], geo.wz[k] - c.z);
+                let g = ws.pairs.get(k * w0 + j);
                 ws.m[(j, k)] = g.m;
                 // d/dr_q = ∂/∂r_k · ∂r_k/∂r_q.
                 ws.mr[(j, k)] = g.dm_db * geo.drf[k];
@@ -681,6 +693,44 @@ impl MovingNetwork {
         let w0 = mesh.workpiece_start();
         let (wr, wdr, wz) = (&geo.wr, &geo.wdr, &geo.wz);
         let reps = &self.reps;
+        // First the kernel pairs, gathered in the order the assembly below reads them and
+        // evaluated together (`batch::gradient_batch`: the scalar kernel's numbers bit for bit).
+        let pairs = &mut ws.pairs;
+        let nh = reps.len();
+        let (pa, pb, pz) = pairs.inputs_mut(nh * nh);
+        let mut n = 0;
+        let mut put = |a: f64, b: f64, z: f64| {
+            pa[n] = a;
+            pb[n] = b;
+            pz[n] = z;
+            n += 1;
+        };
+        for (a, ra) in reps.iter().enumerate() {
+            let k = ra.k;
+            let same_a = ws.same[a];
+            if !same_a {
+                if let Some(kp) = ra.partner {
+                    put(wr[k], wr[kp], wz[kp] - wz[k]);
+                }
+            }
+            for (b, rb) in reps.iter().enumerate().skip(a + 1) {
+                if same_a && ws.same[b] {
+                    continue;
+                }
+                let l = rb.k;
+                put(wr[k], wr[l], wz[l] - wz[k]);
+                if let (Some(_), Some(lp)) = (ra.partner, rb.partner) {
+                    put(wr[k], wr[lp], wz[lp] - wz[k]);
+                }
+            }
+        }
+        pairs.truncate(n);
+        gradient_batch(pairs);
+        let mut next = 0;
+        let mut take = || {
+            next += 1;
+            pairs.get(next - 1)
+        };
         for (a, ra) in reps.iter().enumerate() {
             let k = ra.k;
             let dz = mesh.filaments[w0 + k].dz;
@@ -694,8 +744,7 @@ impl MovingNetwork {
                 ws.self_dr[k] = self_dr;
                 if let Some(kp) = ra.partner {
                     ws.self_dr[kp] = self_dr;
-                    let g =
-                        filament::mutual_inductance_with_gradient(wr[k], wr[kp], wz[kp] - wz[k]);
+                    let g = take();
                     own += g.m;
                     own_r += g.dm_da;
                 }
@@ -706,18 +755,13 @@ impl MovingNetwork {
                 if same_a && ws.same[b] {
                     continue;
                 }
-                let l = rb.k;
-                let g = filament::mutual_inductance_with_gradient(wr[k], wr[l], wz[l] - wz[k]);
+                let g = take();
                 // Sums over the filaments of each representative: row a against b's group
                 // and row b against a's group (in H and H/m).
                 let (m_ab, m_ba, f_ab, f_ba) = match (ra.partner, rb.partner) {
-                    (Some(_), Some(lp)) => {
+                    (Some(_), Some(_)) => {
                         // M_kl' = M_k'l by reflection, and ∂M_kl'/∂r_l' = ∂M_lk'/∂r_l.
-                        let h = filament::mutual_inductance_with_gradient(
-                            wr[k],
-                            wr[lp],
-                            wz[lp] - wz[k],
-                        );
+                        let h = take();
                         (g.m + h.m, g.m + h.m, g.dm_da + h.dm_da, g.dm_db + h.dm_db)
                     }
                     // l on the plane: M_k'l = M_kl.
@@ -735,6 +779,7 @@ impl MovingNetwork {
                 ws.gd[(b, a)] = f_ba;
             }
         }
+        debug_assert_eq!(next, pairs.len());
     }
 
     /// Evaluates currents, resistances, forces and stresses of a scaled state. With `full`
@@ -1053,6 +1098,7 @@ impl Workspace {
             same: vec![false; nh],
             cr_stamp: None,
             fa: DMatrix::zeros(w0, nw),
+            pairs: GradientBatch::default(),
         }
     }
 

@@ -15,7 +15,8 @@
 //! (a field shaper with zero net current, several coils) are more loop columns.
 
 use nalgebra::{Cholesky, DMatrix, DVector, Dyn};
-use ringpulse_physics::{filament, inductance};
+use ringpulse_physics::batch::{gradient_batch, GradientBatch};
+use ringpulse_physics::inductance;
 
 use crate::mesh::{Mesh, Part};
 use crate::EngineError;
@@ -59,14 +60,21 @@ pub fn assemble_filaments(mesh: &Mesh) -> (DMatrix<f64>, DMatrix<f64>, DMatrix<f
     let mut l = DMatrix::<f64>::zeros(n, n);
     let mut grad_r = DMatrix::<f64>::zeros(n, n);
     let mut grad_z = DMatrix::<f64>::zeros(n, n);
+    let mut pairs = GradientBatch::default();
     for i in 0..n {
         let fi = &mesh.filaments[i];
         l[(i, i)] = inductance::ring_rectangular(fi.r, fi.dr, fi.dz);
         grad_r[(i, i)] = 0.5 * inductance::ring_rectangular_dradius(fi.r, fi.dr, fi.dz);
-        for j in (i + 1)..n {
-            let fj = &mesh.filaments[j];
+        // Row i against every later filament, evaluated together (`gradient_batch` gives the
+        // scalar kernel's numbers bit for bit).
+        pairs.clear();
+        for fj in &mesh.filaments[i + 1..] {
+            pairs.push(fi.r, fj.r, fj.z - fi.z);
+        }
+        gradient_batch(&mut pairs);
+        for (p, j) in ((i + 1)..n).enumerate() {
             // Ring a = i at z_i, ring b = j at z_j; dm_db = ∂M/∂r_j, dm_dz = ∂M/∂z_j = −∂M/∂z_i.
-            let g = filament::mutual_inductance_with_gradient(fi.r, fj.r, fj.z - fi.z);
+            let g = pairs.get(p);
             l[(i, j)] = g.m;
             l[(j, i)] = g.m;
             grad_r[(j, i)] = g.dm_db;

@@ -11,6 +11,7 @@
 //! Out-of-range input (a non-positive radius, a non-finite length, ...) gives `NaN` rather
 //! than a panic, and each function documents the values it accepts.
 
+pub mod batch;
 pub mod elliptic;
 mod elliptic_fit;
 pub mod em;

@@ -196,7 +196,9 @@ fn tail(coef: &DMatrix<f64>) -> f64 {
 }
 
 /// Sums a series and its derivative (times `scale`, the derivative of x against radius)
-/// into two columns (plain slices: this is the innermost loop of every evaluation).
+/// into two columns (plain slices: this is the innermost loop of every evaluation, compiled
+/// for the widest vector unit the processor has through [`pulp`]; the same operations in the
+/// same order on every unit).
 fn series(
     coef: &DMatrix<f64>,
     t: &[f64; TERMS],
@@ -205,19 +207,35 @@ fn series(
     value: &mut [f64],
     slope: &mut [f64],
 ) {
-    // The window may predate the last basis vectors: those rows stay zero.
-    let n = coef.nrows();
-    let data = coef.as_slice();
-    value.fill(0.0);
-    slope.fill(0.0);
-    for a in 0..TERMS {
-        let src = &data[a * n..(a + 1) * n];
-        let (ta, da) = (t[a], d[a] * scale);
-        for ((v, s), c) in value[..n].iter_mut().zip(slope[..n].iter_mut()).zip(src) {
-            *v += ta * c;
-            *s += da * c;
+    struct Sum<'a> {
+        coef: &'a DMatrix<f64>,
+        t: &'a [f64; TERMS],
+        d: &'a [f64; TERMS],
+        scale: f64,
+        value: &'a mut [f64],
+        slope: &'a mut [f64],
+    }
+    impl pulp::WithSimd for Sum<'_> {
+        type Output = ();
+        #[inline(always)]
+        fn with_simd<S: pulp::Simd>(self, _simd: S) {
+            let Sum { coef, t, d, scale, value, slope } = self;
+            // The window may predate the last basis vectors: those rows stay zero.
+            let n = coef.nrows();
+            let data = coef.as_slice();
+            value.fill(0.0);
+            slope.fill(0.0);
+            for a in 0..TERMS {
+                let src = &data[a * n..(a + 1) * n];
+                let (ta, da) = (t[a], d[a] * scale);
+                for ((v, s), c) in value[..n].iter_mut().zip(slope[..n].iter_mut()).zip(src) {
+                    *v += ta * c;
+                    *s += da * c;
+                }
+            }
         }
     }
+    pulp::Arch::new().dispatch(Sum { coef, t, d, scale, value, slope });
 }
 
 /// Extends the basis until every column of `data` (n_loops × N) lies in its span to
@@ -288,18 +306,27 @@ fn absorb(basis: &mut DMatrix<f64>, data: &DMatrix<f64>, threshold: f64) {
 }
 
 /// Sums a series (no derivative) into a column; as [`series`], rows the window predates stay
-/// zero.
+/// zero, and the loop is compiled for the widest vector unit.
 fn series_value(coef: &DMatrix<f64>, t: &[f64; TERMS], value: &mut [f64]) {
-    let n = coef.nrows();
-    value.fill(0.0);
-    if n == 0 {
-        return;
-    }
-    for (ta, src) in t.iter().zip(coef.as_slice().chunks_exact(n)) {
-        for (v, c) in value[..n].iter_mut().zip(src) {
-            *v += ta * c;
+    struct Sum<'a>(&'a DMatrix<f64>, &'a [f64; TERMS], &'a mut [f64]);
+    impl pulp::WithSimd for Sum<'_> {
+        type Output = ();
+        #[inline(always)]
+        fn with_simd<S: pulp::Simd>(self, _simd: S) {
+            let Sum(coef, t, value) = self;
+            let n = coef.nrows();
+            value.fill(0.0);
+            if n == 0 {
+                return;
+            }
+            for (ta, src) in t.iter().zip(coef.as_slice().chunks_exact(n)) {
+                for (v, c) in value[..n].iter_mut().zip(src) {
+                    *v += ta * c;
+                }
+            }
         }
     }
+    pulp::Arch::new().dispatch(Sum(coef, t, value));
 }
 
 /// Column k of a column-major matrix as a slice.

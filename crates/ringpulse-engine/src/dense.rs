@@ -83,6 +83,83 @@ pub fn cholesky_in_place(a: &mut DMatrix<f64>) -> bool {
     true
 }
 
+/// Solves L x = b in place for a lower-triangular `l` (only its lower triangle is read), by
+/// columns: x_i = b_i / L_ii, then b_(i+1..) −= x_i L_(i+1.., i).
+/// The same operations in the same order as nalgebra's `solve_lower_triangular_mut`, so the
+/// same bits, but compiled for the widest vector unit the processor has ([`pulp`]); the
+/// coil block's two solves per evaluation of a moving run were a tenth of its time.
+/// Stops, as nalgebra does, at a zero pivot (the coil block's Cholesky factor has none).
+pub fn solve_lower(l: &DMatrix<f64>, b: &mut [f64]) {
+    struct Solve<'a>(&'a DMatrix<f64>, &'a mut [f64]);
+    impl pulp::WithSimd for Solve<'_> {
+        type Output = ();
+        #[inline(always)]
+        fn with_simd<S: pulp::Simd>(self, _simd: S) {
+            let (l, b) = (self.0, self.1);
+            let n = l.nrows().min(b.len());
+            let data = l.as_slice();
+            let rows = l.nrows();
+            for i in 0..n {
+                let col = &data[i * rows..i * rows + n];
+                let diag = col[i];
+                if diag == 0.0 {
+                    return;
+                }
+                let coeff = b[i] / diag;
+                b[i] = coeff;
+                for (y, x) in b[i + 1..n].iter_mut().zip(&col[i + 1..]) {
+                    *y -= coeff * x;
+                }
+            }
+        }
+    }
+    pulp::Arch::new().dispatch(Solve(l, b));
+}
+
+/// Solves Lᵀ x = b in place for a lower-triangular `l`, from the last row up:
+/// x_i = (b_i − L_(i+1.., i) · x_(i+1..)) / L_ii.
+/// The dot product sums in eight interleaved partial sums combined as nalgebra's `dot` does
+/// (so the result equals `tr_solve_lower_triangular_mut` bit for bit), compiled for the widest
+/// vector unit the processor has ([`pulp`]).
+pub fn solve_lower_transposed(l: &DMatrix<f64>, b: &mut [f64]) {
+    struct Solve<'a>(&'a DMatrix<f64>, &'a mut [f64]);
+    impl pulp::WithSimd for Solve<'_> {
+        type Output = ();
+        #[inline(always)]
+        fn with_simd<S: pulp::Simd>(self, _simd: S) {
+            let (l, b) = (self.0, self.1);
+            let n = l.nrows().min(b.len());
+            let data = l.as_slice();
+            let rows = l.nrows();
+            for i in (0..n).rev() {
+                let col = &data[i * rows + i + 1..i * rows + n];
+                let x = &b[i + 1..n];
+                let mut acc = [0.0f64; 8];
+                let chunks = col.len() / 8;
+                for (cc, xc) in col.chunks_exact(8).zip(x.chunks_exact(8)) {
+                    for k in 0..8 {
+                        acc[k] += cc[k] * xc[k];
+                    }
+                }
+                let mut dot = 0.0;
+                dot += acc[0] + acc[4];
+                dot += acc[1] + acc[5];
+                dot += acc[2] + acc[6];
+                dot += acc[3] + acc[7];
+                for (c, v) in col[8 * chunks..].iter().zip(&x[8 * chunks..]) {
+                    dot += c * v;
+                }
+                let diag = data[i * rows + i];
+                if diag == 0.0 {
+                    return;
+                }
+                b[i] = (b[i] - dot) / diag;
+            }
+        }
+    }
+    pulp::Arch::new().dispatch(Solve(l, b));
+}
+
 #[cfg(test)]
 #[allow(clippy::unwrap_used)]
 mod tests {
@@ -111,5 +188,37 @@ mod tests {
         assert!(!cholesky_in_place(&mut bad));
         let mut nan = DMatrix::from_row_slice(1, 1, &[f64::NAN]);
         assert!(!cholesky_in_place(&mut nan));
+    }
+
+    /// Both triangular solves give nalgebra's results bit for bit, for sizes below, at and
+    /// across the eight-wide partial sums.
+    #[test]
+    fn triangular_solves_equal_nalgebra_bit_for_bit() {
+        for n in [1usize, 2, 7, 8, 9, 17, 64, 289] {
+            let a = DMatrix::from_fn(n, n, |i, j| {
+                let d = (i as f64 - j as f64).abs();
+                1e-7 * (1.0 / (1.0 + d) + if i == j { 2.0 } else { 0.0 })
+                    * (1.0 + 0.1 * (i as f64).sin())
+            });
+            let a = (&a + a.transpose()) * 0.5;
+            let l = Cholesky::new(a).unwrap().unpack();
+            let b = DVector::from_fn(n, |i, _| (i as f64 * 0.37).sin() + 0.5);
+            let mut want = b.clone();
+            l.solve_lower_triangular_mut(&mut want);
+            let mut got = b.clone();
+            solve_lower(&l, got.as_mut_slice());
+            assert!(
+                got.iter().zip(want.iter()).all(|(x, y)| x.to_bits() == y.to_bits()),
+                "L x = b, n = {n}"
+            );
+            let mut want = b.clone();
+            l.tr_solve_lower_triangular_mut(&mut want);
+            let mut got = b.clone();
+            solve_lower_transposed(&l, got.as_mut_slice());
+            assert!(
+                got.iter().zip(want.iter()).all(|(x, y)| x.to_bits() == y.to_bits()),
+                "Lᵀ x = b, n = {n}"
+            );
+        }
     }
 }

@@ -864,7 +864,7 @@ impl MovingNetwork {
         // φ = L_A⁻¹ ψ_c, x_w = S⁻¹ (ψ_w − Cᵀ φ), ξ = φ − C x_w, x_c = L_A⁻ᵀ ξ, with C = U G:
         // Cᵀ φ = Gᵀ (Uᵀ φ), and the forces need only ξ_U = Uᵀ ξ = Uᵀ φ − G x_w.
         let mut phi = psi.rows(0, ncl).into_owned();
-        self.l_a.solve_lower_triangular_mut(&mut phi);
+        dense::solve_lower(&self.l_a, phi.as_mut_slice());
         let tables = self.tables.borrow();
         let basis = tables.basis();
         let phi_u = if ws.projected { basis.tr_mul(&phi) } else { phi.clone() };
@@ -902,7 +902,7 @@ impl MovingNetwork {
         let xi_z = if ws.reduced && full { Some(tables.zbasis().tr_mul(&xi)) } else { None };
         drop(tables);
         let mut x_c = xi.clone();
-        self.l_a.tr_solve_lower_triangular_mut(&mut x_c);
+        dense::solve_lower_transposed(&self.l_a, x_c.as_mut_slice());
         if !(x_w.iter().all(|v| v.is_finite()) && x_c.iter().all(|v| v.is_finite())) {
             return Err(EngineError::Solver {
                 message: "the loop currents of the moving network are not finite".into(),

@@ -827,4 +827,32 @@ mod tests {
         }
         assert!(tail(&coef) < 1e-9);
     }
+
+    /// The vectorised series give the numbers of a plain scalar loop over the same terms,
+    /// bit for bit (each row is summed in the same order; no lanes are combined), also for a
+    /// window with fewer rows than the column.
+    #[test]
+    fn series_equal_a_scalar_loop_bit_for_bit() {
+        for (n, len) in [(37, 37), (5, 9), (0, 4)] {
+            let coef = DMatrix::from_fn(n, TERMS, |i, a| ((i * 7 + a * 3) as f64 * 0.37).sin());
+            let (t, d) = chebyshev(0.4137);
+            let scale = 1.0 / 3.1e-3;
+            let (mut value, mut slope, mut only) = (vec![1.0; len], vec![1.0; len], vec![1.0; len]);
+            series(&coef, &t, &d, scale, &mut value, &mut slope);
+            series_value(&coef, &t, &mut only);
+            let mut want_v = vec![0.0; len];
+            let mut want_s = vec![0.0; len];
+            for a in 0..TERMS {
+                let da = d[a] * scale;
+                for i in 0..n {
+                    want_v[i] += t[a] * coef[(i, a)];
+                    want_s[i] += da * coef[(i, a)];
+                }
+            }
+            let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
+            assert_eq!(bits(&value), bits(&want_v), "values, {n} rows of {len}");
+            assert_eq!(bits(&slope), bits(&want_s), "slopes, {n} rows of {len}");
+            assert_eq!(bits(&only), bits(&want_v), "value-only series, {n} rows of {len}");
+        }
+    }
 }

@@ -183,9 +183,9 @@ impl pulp::WithSimd for Passes<'_> {
     }
 }
 
-#[inline(always)]
 /// Returns true when every pair is regular (in range, circles apart), so that no pair needs
 /// the scalar kernel's special values.
+#[inline(always)]
 fn passes(bt: &mut GradientBatch) -> bool {
     let n = bt.a.len();
     let (a, b, z) = (&bt.a[..n], &bt.b[..n], &bt.z[..n]);
